@@ -1,0 +1,129 @@
+#pragma once
+/// \file spline.hpp
+/// Multi-axis C2 cubic interpolating splines, fitted by one banded O(n) solve for all axes.
+
+#include <Eigen/Core>
+#include <cstddef>
+#include <vector>
+
+namespace c2path {
+
+using Index = Eigen::Index;
+
+/// End condition of an interpolating cubic spline.
+enum class EndCondition {
+  kNotAKnot,  ///< third derivative continuous at the second and next-to-last breakpoint (default)
+  kNatural,   ///< second derivative zero at both ends
+  kClamped,   ///< first derivative given at both ends (SplineOptions::start_slope / end_slope)
+  kPeriodic,  ///< first and last point equal; value, slope and curvature wrap around
+};
+
+/// Options of CubicSpline::fit.
+struct SplineOptions {
+  EndCondition ends = EndCondition::kNotAKnot;
+  /// Clamped only: dq/du at u_0, one entry per axis (size = axes).
+  Eigen::VectorXd start_slope;
+  /// Clamped only: dq/du at u_n, one entry per axis (size = axes).
+  Eigen::VectorXd end_slope;
+  /// Throws c2path::Error if the options cannot apply to `axes` axes.
+  void validate(Index axes) const;
+};
+
+/// Minimum and maximum of one quantity over a stretch of parameter, with where they occur.
+struct Range {
+  double min = 0.0;    ///< lowest value
+  double u_min = 0.0;  ///< parameter where the lowest value occurs
+  double max = 0.0;    ///< highest value
+  double u_max = 0.0;  ///< parameter where the highest value occurs
+};
+
+/// Piecewise cubic q(u) with `axes()` components on breakpoints u_0 < ... < u_n.
+///
+/// Piece i covers [u_i, u_{i+1}] and holds, per axis a, q_a(u) = c0 + c1 s + c2 s^2 + c3 s^3 with
+/// s = u - u_i. Outside [u_0, u_n] the end cubics continue (extrapolation by the first and last
+/// piece). Evaluation finds the piece by binary search (O(log n)); a Cursor makes sorted queries
+/// amortised O(1).
+class CubicSpline {
+ public:
+  CubicSpline() = default;
+
+  /// Interpolating spline through points q (shape (n+1) x axes) at strictly increasing u (n+1).
+  /// Conventions for few points (as in SciPy's CubicSpline): 2 points give the straight line
+  /// (clamped gives the cubic Hermite with the given slopes); 3 points with not-a-knot give the
+  /// parabola. Periodic needs q.row(0) == q.row(n) exactly. Throws c2path::Error on invalid input.
+  static CubicSpline fit(const Eigen::Ref<const Eigen::VectorXd>& u,
+                         const Eigen::Ref<const Eigen::MatrixXd>& q, const SplineOptions& options = {});
+
+  /// A spline from its breakpoints (n+1) and coefficients (n * axes * 4, layout [piece][axis][k]).
+  /// `end_values` (size axes) is the value at u_n; empty means: evaluate the last cubic there.
+  CubicSpline(std::vector<double> breaks, Index axes, std::vector<double> coeffs, std::vector<double> end_values = {});
+
+  [[nodiscard]] Index axes() const noexcept { return axes_; }
+  /// Number of cubic pieces n (breakpoints n+1); 0 for an empty spline.
+  [[nodiscard]] Index pieces() const noexcept { return breaks_.empty() ? 0 : Index(breaks_.size()) - 1; }
+  [[nodiscard]] bool empty() const noexcept { return breaks_.size() < 2; }
+  [[nodiscard]] double u_begin() const { return breaks_.front(); }
+  [[nodiscard]] double u_end() const { return breaks_.back(); }
+  /// Breakpoints u_0..u_n.
+  [[nodiscard]] const std::vector<double>& breaks() const noexcept { return breaks_; }
+  /// Coefficient c_k (k = 0..3) of piece `piece`, axis `axis`, in the local variable s = u - u_piece.
+  [[nodiscard]] double coeff(Index piece, Index axis, int k) const {
+    return coeffs_[std::size_t(((piece * axes_) + axis) * 4 + k)];
+  }
+  /// Pointer to the 4 coefficients c0..c3 of (piece, axis).
+  [[nodiscard]] const double* coeffs(Index piece, Index axis) const {
+    return coeffs_.data() + std::size_t(((piece * axes_) + axis) * 4);
+  }
+
+  /// Value of axis `axis` at u_n exactly as interpolated (the last waypoint), not the rounded
+  /// value of the last cubic there; eval() returns it at u == u_n.
+  [[nodiscard]] double end_value(Index axis) const { return end_values_[std::size_t(axis)]; }
+
+  /// Index of the piece that evaluates u: the i with u_i <= u < u_{i+1}, clamped to [0, n-1].
+  [[nodiscard]] Index find_piece(double u) const;
+
+  /// d^deriv q_axis / du^deriv at u (deriv 0..3; higher derivatives are 0).
+  [[nodiscard]] double eval(double u, Index axis, int deriv = 0) const;
+  /// All axes at once: out has size axes().
+  void eval(double u, int deriv, Eigen::Ref<Eigen::VectorXd> out) const;
+
+  /// Evaluation of one derivative on a given piece (no search).
+  [[nodiscard]] double eval_piece(Index piece, double u, Index axis, int deriv) const;
+
+  /// Exact lowest and highest value of d^deriv q_axis/du^deriv over piece `piece` (deriv 0..3),
+  /// from the roots of the next derivative.
+  [[nodiscard]] Range piece_range(Index piece, Index axis, int deriv) const;
+
+  /// Remembers the last piece so that queries in increasing (or decreasing) order cost O(1)
+  /// amortised. Cheap to copy; holds a pointer to the spline, which must outlive it.
+  class Cursor {
+   public:
+    explicit Cursor(const CubicSpline& spline) : spline_(&spline) {}
+    /// Piece for u, walking from the last one.
+    Index piece(double u);
+    double eval(double u, Index axis, int deriv = 0) { return spline_->eval_piece(piece(u), u, axis, deriv); }
+
+   private:
+    const CubicSpline* spline_;
+    Index last_ = 0;
+  };
+
+ private:
+  std::vector<double> breaks_;
+  Index axes_ = 0;
+  std::vector<double> coeffs_;
+  std::vector<double> end_values_;
+};
+
+/// Horner evaluation of the deriv-th derivative of c0 + c1 s + c2 s^2 + c3 s^3.
+[[nodiscard]] inline double cubic_eval(const double* c, double s, int deriv) {
+  switch (deriv) {
+    case 0: return ((c[3] * s + c[2]) * s + c[1]) * s + c[0];
+    case 1: return (3.0 * c[3] * s + 2.0 * c[2]) * s + c[1];
+    case 2: return 6.0 * c[3] * s + 2.0 * c[2];
+    case 3: return 6.0 * c[3];
+    default: return 0.0;
+  }
+}
+
+}  // namespace c2path

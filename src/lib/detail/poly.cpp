@@ -1,0 +1,130 @@
+#include "detail/poly.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <utility>
+
+namespace c2path::detail {
+
+double poly_eval(const double* c, int degree, double s) {
+  double v = c[degree];
+  for (int k = degree - 1; k >= 0; --k) v = v * s + c[k];
+  return v;
+}
+
+namespace {
+
+// Bisection on [lo, hi] where p(lo) and p(hi) have opposite signs (or one is zero).
+double bisect(const double* c, int degree, double lo, double hi, double plo) {
+  for (int it = 0; it < 2200; ++it) {
+    const double mid = 0.5 * (lo + hi);
+    if (mid <= lo || mid >= hi) break;
+    const double pm = poly_eval(c, degree, mid);
+    if (pm == 0.0) return mid;
+    if ((pm < 0.0) == (plo < 0.0)) {
+      lo = mid;
+      plo = pm;
+    } else {
+      hi = mid;
+    }
+  }
+  // Pick the end with the smaller residual.
+  const double phi = poly_eval(c, degree, hi);
+  return std::abs(plo) <= std::abs(phi) ? lo : hi;
+}
+
+}  // namespace
+
+int poly_roots_in(const double* c, int degree, double a, double b, double* out) {
+  while (degree > 0 && c[degree] == 0.0) --degree;
+  if (degree <= 0 || !(a < b)) return 0;
+  if (degree == 1) {
+    const double r = -c[0] / c[1];
+    if (r > a && r < b) {
+      out[0] = r;
+      return 1;
+    }
+    return 0;
+  }
+  // Critical points split (a, b) into stretches where p is monotone.
+  double dc[3];
+  for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
+  double crit[3];
+  const int nc = poly_roots_in(dc, degree - 1, a, b, crit);
+  double pts[5];
+  int np = 0;
+  pts[np++] = a;
+  for (int i = 0; i < nc; ++i) pts[np++] = crit[i];
+  pts[np++] = b;
+  int nr = 0;
+  double prev_val = poly_eval(c, degree, pts[0]);
+  for (int i = 0; i + 1 < np; ++i) {
+    const double lo = pts[i];
+    const double hi = pts[i + 1];
+    const double plo = prev_val;
+    const double phi = poly_eval(c, degree, hi);
+    prev_val = phi;
+    // A root exactly at an interior critical point (double root).
+    if (phi == 0.0 && i + 1 < np - 1) {
+      if (nr == 0 || out[nr - 1] != hi) out[nr++] = hi;
+      continue;
+    }
+    if (plo == 0.0) continue;  // at a: excluded (open interval) or already reported
+    if ((plo < 0.0) != (phi < 0.0) && phi != 0.0) {
+      const double r = bisect(c, degree, lo, hi, plo);
+      if (r > a && r < b && (nr == 0 || out[nr - 1] != r)) out[nr++] = r;
+    }
+  }
+  return nr;
+}
+
+bool solve_tridiagonal(std::vector<double>& dl, std::vector<double>& d, std::vector<double>& du,
+                       double* b, std::size_t m) {
+  const std::size_t n = d.size();
+  if (n == 0) return true;
+  auto row = [&](std::size_t i) { return b + i * m; };
+  for (std::size_t i = 0; i + 1 < n; ++i) {
+    double* bi = row(i);
+    double* bn = row(i + 1);
+    if (std::abs(d[i]) >= std::abs(dl[i])) {
+      if (d[i] == 0.0) return false;
+      const double fact = dl[i] / d[i];
+      d[i + 1] -= fact * du[i];
+      for (std::size_t j = 0; j < m; ++j) bn[j] -= fact * bi[j];
+      dl[i] = 0.0;  // from here on dl[i] is the second super-diagonal of U
+    } else {
+      const double fact = d[i] / dl[i];
+      d[i] = dl[i];
+      const double temp = d[i + 1];
+      d[i + 1] = du[i] - fact * temp;
+      if (i + 2 < n) {
+        dl[i] = du[i + 1];
+        du[i + 1] = -fact * dl[i];
+      } else {
+        dl[i] = 0.0;
+      }
+      du[i] = temp;
+      for (std::size_t j = 0; j < m; ++j) {
+        const double t = bi[j];
+        bi[j] = bn[j];
+        bn[j] = t - fact * bn[j];
+      }
+    }
+  }
+  if (d[n - 1] == 0.0) return false;
+  for (std::size_t j = 0; j < m; ++j) row(n - 1)[j] /= d[n - 1];
+  if (n > 1) {
+    double* bi = row(n - 2);
+    const double* b1 = row(n - 1);
+    for (std::size_t j = 0; j < m; ++j) bi[j] = (bi[j] - du[n - 2] * b1[j]) / d[n - 2];
+  }
+  for (std::size_t ii = n >= 2 ? n - 2 : 0; ii-- > 0;) {
+    double* bi = row(ii);
+    const double* b1 = row(ii + 1);
+    const double* b2 = row(ii + 2);
+    for (std::size_t j = 0; j < m; ++j) bi[j] = (bi[j] - du[ii] * b1[j] - dl[ii] * b2[j]) / d[ii];
+  }
+  return true;
+}
+
+}  // namespace c2path::detail
