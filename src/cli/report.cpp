@@ -1,0 +1,165 @@
+// Printing of `check` reports (table and JSON).
+
+#include "report.hpp"
+
+#include <nlohmann/json.hpp>
+
+#include <iostream>
+#include <vector>
+
+#include "c2path/scene_yaml.hpp"
+
+namespace c2path::cli {
+
+namespace {
+
+std::string pct(double value, const std::optional<double>& limit) {
+  if (!limit) return "";
+  return num(100.0 * value / *limit, 3) + "%";
+}
+
+std::string pad(std::string s, std::size_t w) {
+  if (s.size() < w) s.append(w - s.size(), ' ');
+  return s;
+}
+
+nlohmann::ordered_json opt(const std::optional<double>& v) { return v ? nlohmann::ordered_json(*v) : nlohmann::ordered_json(); }
+}  // namespace
+
+const char* const kCaution =
+    "CAUTION: c2path checks the limits it is given, not the machine. Rehearse at reduced speed with the "
+    "working area clear and an emergency stop at hand; follow the machine's manual, local codes and "
+    "qualified practice.";
+
+std::string num(double v, int digits) {
+  if (v == 0.0) v = 0.0;
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%.*g", digits, v);
+  return buf;
+}
+
+
+
+Loaded load_and_check(const std::string& path) {
+  Loaded l;
+  l.scene = load_scene_file(path);
+  l.plan = c2path::plan(l.scene);
+  l.report = check_limits(*l.plan.trajectory, l.plan.limits);
+  return l;
+}
+
+static std::string unit_of(const AxisSpec& a, const char* per) {
+  if (a.unit.empty()) return std::string("unit") + per;
+  return a.unit + per;
+}
+
+void print_violations(std::FILE* out, const Loaded& l) {
+  const auto& r = l.report;
+  if (r.violations.empty()) {
+    std::fprintf(out, "violations: none\n");
+    return;
+  }
+  std::fprintf(out, "violations (%zu):\n", r.violations.size());
+  for (const auto& v : r.violations) {
+    const AxisSpec& ax = l.scene.axes[std::size_t(v.axis)];
+    const char* per = v.quantity == Quantity::kPos ? "" : v.quantity == Quantity::kVel ? "/s" : v.quantity == Quantity::kAcc ? "/s^2" : "/s^3";
+    std::string how;
+    if (v.quantity == Quantity::kPos)
+      how = std::string(v.peak > v.limit ? "above max " : "below min ") + num(v.limit);
+    else
+      how = "limit " + num(v.limit) + ", " + num(100.0 * v.peak / v.limit, 4) + "%";
+    std::fprintf(out, "  %s %-4s t %s .. %s s  peak %s %s at t %s s  (%s)\n", pad(ax.name, 8).c_str(), to_string(v.quantity),
+                 num(v.t_start, 7).c_str(), num(v.t_end, 7).c_str(), num(v.peak).c_str(), unit_of(ax, per).c_str(),
+                 num(v.t_peak, 7).c_str(), how.c_str());
+  }
+}
+
+void print_stretch(std::FILE* out, const Loaded& l) {
+  const auto& r = l.report;
+  if (r.stretch > 1.0)
+    std::fprintf(out, "stretch factor %s: slowed down uniformly to %s s (from %s s), the move keeps its velocity, "
+                      "acceleration and jerk limits\n",
+                 num(r.stretch).c_str(), num(r.duration * r.stretch).c_str(), num(r.duration).c_str());
+  else
+    std::fprintf(out, "stretch factor 1: velocity, acceleration and jerk are within their limits\n");
+  if (r.pos_violation) std::fprintf(out, "note: slowing down cannot fix a position (travel) violation; move the waypoints\n");
+}
+
+void print_table(const Loaded& l) {
+  const Scene& s = l.scene;
+  const Report& r = l.report;
+  std::printf("scene %s%s: %s mode, %zu waypoints, %zu axes, t %s .. %s s (duration %s s)\n", s.file.c_str(),
+              s.name.empty() ? "" : (" \"" + s.name + "\"").c_str(), to_string(s.timing.mode), s.waypoints.size(),
+              s.axes.size(), num(r.t_begin).c_str(), num(r.t_end).c_str(), num(r.duration).c_str());
+  for (const auto& n : l.plan.notes) std::printf("note: %s\n", n.c_str());
+  std::printf("\n%s%s%s%s%s%s\n", pad("axis", 10).c_str(), pad("travel used", 24).c_str(), pad("allowed", 22).c_str(),
+              pad("peak |vel|", 20).c_str(), pad("peak |acc|", 20).c_str(), "peak |jerk|");
+  std::vector<std::string> unchecked;
+  for (std::size_t a = 0; a < s.axes.size(); ++a) {
+    const AxisSpec& ax = s.axes[a];
+    const AxisPeaks& p = r.peaks[a];
+    const std::string unit = ax.unit.empty() ? "" : " " + ax.unit;
+    std::string allowed = (ax.min ? num(*ax.min) : "-inf") + " .. " + (ax.max ? num(*ax.max) : "+inf");
+    auto cell = [&](double v, const std::optional<double>& lim) {
+      return num(v, 4) + (lim ? " (" + pct(v, lim) + ")" : " (-)") + (lim && v > *lim * (1 + 1e-9) ? " !" : "");
+    };
+    bool pos_bad = (ax.min && p.pos_min < *ax.min) || (ax.max && p.pos_max > *ax.max);
+    for (const auto& v : r.violations)
+      if (v.axis == Index(a) && v.quantity == Quantity::kPos) pos_bad = true;
+    std::printf("%s%s%s%s%s%s\n", pad(ax.name + unit, 10).c_str(),
+                pad(num(p.pos_min) + " .. " + num(p.pos_max) + (pos_bad ? " !" : ""), 24).c_str(), pad(allowed, 22).c_str(),
+                pad(cell(p.vel, ax.vel), 20).c_str(), pad(cell(p.acc, ax.acc), 20).c_str(), cell(p.jerk, ax.jerk).c_str());
+    if (!ax.min && !ax.max) unchecked.push_back(ax.name + " travel");
+    if (!ax.vel) unchecked.push_back(ax.name + " vel");
+    if (!ax.acc) unchecked.push_back(ax.name + " acc");
+    if (!ax.jerk) unchecked.push_back(ax.name + " jerk");
+  }
+  if (!unchecked.empty()) {
+    std::string list;
+    for (const auto& u : unchecked) list += (list.empty() ? "" : ", ") + u;
+    std::printf("not checked (no limit given): %s\n", list.c_str());
+  }
+  std::printf("\n");
+  print_violations(stdout, l);
+  print_stretch(stdout, l);
+  std::printf("%s\n", r.ok ? "result: within limits" : "result: LIMITS EXCEEDED");
+  std::printf("%s\n", kCaution);
+}
+
+
+void print_json(const Loaded& l) {
+  using J = nlohmann::ordered_json;
+  const Report& r = l.report;
+  J j;
+  j["ok"] = r.ok;
+  j["duration"] = r.duration;
+  j["stretch"] = r.stretch;
+  J knots = J::array();
+  for (Index k = 0; k < l.plan.knots.size(); ++k) knots.push_back(l.plan.knots[k]);
+  j["knots"] = knots;
+  J axes = J::array();
+  for (std::size_t a = 0; a < l.scene.axes.size(); ++a) {
+    const AxisSpec& ax = l.scene.axes[a];
+    const AxisPeaks& p = r.peaks[a];
+    J e;
+    e["name"] = ax.name;
+    e["unit"] = ax.unit;
+    e["peak"] = J{{"pos_min", p.pos_min}, {"pos_max", p.pos_max}, {"vel", p.vel}, {"acc", p.acc}, {"jerk", p.jerk}};
+    e["limit"] = J{{"min", opt(ax.min)}, {"max", opt(ax.max)}, {"vel", opt(ax.vel)}, {"acc", opt(ax.acc)}, {"jerk", opt(ax.jerk)}};
+    axes.push_back(e);
+  }
+  j["axes"] = axes;
+  J vs = J::array();
+  for (const auto& v : r.violations)
+    vs.push_back(J{{"axis", l.scene.axes[std::size_t(v.axis)].name},
+                   {"quantity", to_string(v.quantity)},
+                   {"t_start", v.t_start},
+                   {"t_end", v.t_end},
+                   {"peak", v.peak},
+                   {"t_peak", v.t_peak},
+                   {"limit", v.limit}});
+  j["violations"] = vs;
+  std::cout << j.dump() << "\n";
+}
+
+}  // namespace c2path::cli
