@@ -1,0 +1,47 @@
+#pragma once
+// Shared test helpers: closeness checks that report the index, and reusable invariant checks.
+
+#include <catch2/catch.hpp>
+
+#include <cmath>
+#include <iomanip>
+#include <sstream>
+#include <string>
+
+#include "c2path/spline.hpp"
+
+namespace c2path::test {
+
+/// |a - b| <= abs_tol + rel_tol * max(|a|, |b|)
+inline bool near(double a, double b, double rel_tol, double abs_tol = 0.0) {
+  return std::abs(a - b) <= abs_tol + rel_tol * std::max(std::abs(a), std::abs(b));
+}
+
+/// CHECKs closeness and, when it fails, says what was compared at which index.
+#define C2PATH_CHECK_NEAR(what, index, a, b, rel, abs_)                                                     \
+  do {                                                                                                      \
+    const double c2p_a_ = (a), c2p_b_ = (b);                                                                \
+    INFO(what << " [" << (index) << "]: " << std::setprecision(17) << c2p_a_ << " vs " << c2p_b_           \
+              << " (diff " << std::abs(c2p_a_ - c2p_b_) << ")");                                            \
+    CHECK(::c2path::test::near(c2p_a_, c2p_b_, (rel), (abs_)));                                             \
+  } while (0)
+
+/// Value, slope and curvature agree from both sides at every interior breakpoint (C0, C1, C2),
+/// relative to the size of the quantity on the spline.
+inline void check_c2(const CubicSpline& s, double rel = 1e-10) {
+  for (Index i = 1; i < s.pieces(); ++i) {
+    const double u = s.breaks()[std::size_t(i)];
+    const double h = s.breaks()[std::size_t(i)] - s.breaks()[std::size_t(i) - 1];
+    for (Index a = 0; a < s.axes(); ++a)
+      for (int d = 0; d <= 2; ++d) {
+        const double left = cubic_eval(s.coeffs(i - 1, a), h, d);
+        const double right = s.eval_piece(i, u, a, d);
+        double scale = 1.0;
+        for (Index p = 0; p < s.pieces(); ++p) scale = std::max(scale, std::abs(cubic_eval(s.coeffs(p, a), 0.0, d)));
+        INFO("C" << d << " at breakpoint " << i << ", axis " << a);
+        C2PATH_CHECK_NEAR("left vs right", i, left, right, 0.0, rel * scale);
+      }
+  }
+}
+
+}  // namespace c2path::test
