@@ -184,7 +184,7 @@ CubicSpline CubicSpline::fit(const Eigen::Ref<const Eigen::VectorXd>& u,
 
 Index CubicSpline::find_piece(double u) const {
   const Index n = pieces();
-  if (n <= 1 || !(u > breaks_[1])) return 0;  // also NaN -> 0
+  if (n <= 1 || !(u >= breaks_[1])) return 0;  // also NaN -> 0; u_1 itself belongs to piece 1
   if (u >= breaks_[std::size_t(n - 1)]) return n - 1;
   const auto it = std::upper_bound(breaks_.begin() + 1, breaks_.end() - 1, u);
   return Index(it - breaks_.begin()) - 1;
