@@ -1,0 +1,137 @@
+#pragma once
+// The viewer's user interface: one App per window. Immediate mode: every frame draws from the
+// Document (the scene and its last valid plan) and turns widget actions into Document edits.
+
+#include <imgui.h>
+
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "document.hpp"
+#include "samples.hpp"
+
+namespace c2path::viewer {
+
+/// What the path in the 3D view is coloured by.
+enum class ColourBy { kLimitPct, kSpeed };
+
+/// Axis mapping of one 3D coordinate: an axis index, or one of these.
+inline constexpr int kMapNone = -1;
+inline constexpr int kMapTime = -2;
+
+/// A screen rectangle (window coordinates, pixels).
+struct Rect {
+  ImVec2 min{0, 0}, max{0, 0};
+  [[nodiscard]] bool valid() const { return max.x > min.x && max.y > min.y; }
+};
+
+struct AppOptions {
+  std::string tab;          ///< side panel tab to open first: waypoints, report, view
+  double time_s = -1.0;     ///< playhead at start; < 0: start of the move (screenshots: 40 %)
+  ColourBy colour = ColourBy::kLimitPct;
+  bool headless = false;
+};
+
+class App {
+ public:
+  App(Document& doc, AppOptions options);
+  /// Builds the whole window for one frame; dt_s is the time since the last frame.
+  void frame(double dt_s);
+  /// True when something animates or is being dragged (the main loop then does not wait for events).
+  [[nodiscard]] bool busy() const { return playing_ || drag_wp_ >= 0; }
+  /// Where the 3D path canvas and the plot grid were drawn in the last frame.
+  [[nodiscard]] Rect view_rect() const { return view_rect_; }
+  [[nodiscard]] Rect plot_rect() const { return plot_rect_; }
+  /// Frame time shown in the View tab [ms].
+  void set_frame_ms(double ms) { frame_ms_ = ms; }
+
+ private:
+  void sync_plan();
+  void handle_keys();
+  void top_bar(const ImVec2& pos, const ImVec2& size);
+  void caution_strip(const ImVec2& pos, const ImVec2& size);
+  void view_panel(const ImVec2& pos, const ImVec2& size);
+  void side_panel(const ImVec2& pos, const ImVec2& size);
+  void plots_panel(const ImVec2& pos, const ImVec2& size);
+  void waypoint_table();
+  void report_tab();
+  void view_tab();
+  void save_dialog();
+  void reload_dialog();
+
+  // 3D view helpers
+  void frame_all();
+  void default_mapping();
+  [[nodiscard]] ImVec2 project(const double c[3]) const;
+  void coords_of_sample(std::size_t i, double c[3]) const;
+  void coords_of_point(const std::vector<double>& q, double t, double c[3]) const;
+  void draw_path(ImDrawList* dl);
+  void draw_grid(ImDrawList* dl);
+  void draw_handles(ImDrawList* dl, bool hovered_canvas);
+  void draw_pose(ImDrawList* dl);
+  void update_speed();
+  [[nodiscard]] bool is_3d() const { return map_[2] != kMapNone; }
+
+  // plots
+  void draw_plot(ImDrawList* dl, std::size_t axis, int deriv, const Rect& r, bool bottom);
+  [[nodiscard]] float plot_x(double t, const Rect& r) const;
+  [[nodiscard]] double plot_t(float x, const Rect& r) const;
+
+  Document& doc_;
+  AppOptions opt_;
+  Samples samples_;
+  std::uint64_t seen_generation_ = ~std::uint64_t(0);
+  bool have_samples_ = false;
+
+  // playhead
+  double t_ = 0.0;
+  bool playing_ = false, loop_ = true;
+  double rate_ = 1.0;
+
+  // 3D view state
+  int map_[3] = {0, 1, 2};
+  bool equal_scale_ = false;
+  ColourBy colour_ = ColourBy::kLimitPct;
+  float yaw_ = -0.65f, pitch_ = 0.5f, zoom_ = 1.0f;
+  ImVec2 pan_{0, 0};
+  double centre_[3] = {0, 0, 0}, half_[3] = {1, 1, 1};
+  bool need_frame_ = true;
+  Rect view_rect_, plot_rect_;
+  float scale_ = 1.0f;
+  ImVec2 origin_{0, 0};
+  int drag_wp_ = -1, hover_wp_ = -1, selected_ = -1;
+  std::vector<double> drag_q0_;
+  ImVec2 drag_mouse0_{0, 0};
+  bool scroll_to_selected_ = false;
+  std::vector<ImVec2> proj_;        // projected samples (per frame)
+  std::vector<float> value_;        // colour value per sample
+  std::vector<float> speed_;        // |velocity| of the mapped axes per sample
+  std::size_t drawn_segments_ = 0;  // path segments drawn after thinning (last frame)
+  float speed_max_ = 0.0f;
+  std::uint64_t speed_generation_ = ~std::uint64_t(0);
+  int speed_map_[3] = {-9, -9, -9};
+
+  // plots
+  double tv0_ = 0.0, tv1_ = 1.0;  // visible time range
+  bool show_deriv_[4] = {true, true, true, true};
+  bool scrubbing_ = false;
+  float plot_pan_anchor_ = 0.0f;
+  double plot_pan_t0_ = 0.0, plot_pan_t1_ = 0.0;
+  std::vector<ImVec2> line_;  // polyline scratch
+  std::vector<std::size_t> col_index_;  // first sample index of each pixel column (envelope mode)
+  std::vector<double> zoom_vals_;       // exact values per pixel column when zoomed in: [(j * axes + a) * 4 + d]
+  bool zoomed_ = false;
+  int plot_cols_ = 0;
+
+  // side panel
+  int tab_request_ = -1;  // 0 waypoints, 1 report, 2 view
+  std::string save_path_;
+  std::string status_;      // last action's outcome (saved, reloaded, ...)
+  bool status_bad_ = false;
+  bool open_save_ = false, open_replace_ = false, open_reload_ = false;
+  double frame_ms_ = 0.0;
+  bool show_help_ = false;
+};
+
+}  // namespace c2path::viewer

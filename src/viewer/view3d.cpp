@@ -1,0 +1,477 @@
+// The 3D (or 2D) view of the path: axis mapping, orbit/pan/zoom, numbered waypoint handles that
+// can be dragged in the view plane, the path coloured by % of limit or speed, the pose at the
+// playhead. Only drawing math here: positions come from the library's trajectory.
+
+#include <imgui.h>
+
+#include <algorithm>
+#include <cmath>
+#include <string>
+
+#include "app.hpp"
+#include "format.hpp"
+#include "style.hpp"
+
+namespace c2path::viewer {
+
+namespace {
+constexpr ImGuiWindowFlags kPanel = ImGuiWindowFlags_NoTitleBar | ImGuiWindowFlags_NoResize | ImGuiWindowFlags_NoMove |
+                                    ImGuiWindowFlags_NoCollapse | ImGuiWindowFlags_NoSavedSettings |
+                                    ImGuiWindowFlags_NoBringToFrontOnFocus | ImGuiWindowFlags_NoScrollbar |
+                                    ImGuiWindowFlags_NoScrollWithMouse;
+constexpr float kPi = 3.14159265358979f;
+inline float cross(ImVec2 a, ImVec2 b) { return a.x * b.y - a.y * b.x; }
+inline float dist2(ImVec2 a, ImVec2 b) { return (a.x - b.x) * (a.x - b.x) + (a.y - b.y) * (a.y - b.y); }
+
+std::string coord_label(const Scene& s, int m) {
+  if (m == kMapTime) return "time [s]";
+  if (m < 0) return "";
+  const AxisSpec& a = s.axes[std::size_t(m)];
+  return a.unit.empty() ? a.name : a.name + " [" + a.unit + "]";
+}
+}  // namespace
+
+void App::frame_all() {
+  zoom_ = 1.0f;
+  pan_ = {0, 0};
+  if (!have_samples_) return;
+  double lo[3], hi[3];
+  for (int c = 0; c < 3; ++c) {
+    const int m = map_[c];
+    if (m >= 0) {
+      lo[c] = samples_.lo[0][m];
+      hi[c] = samples_.hi[0][m];
+    } else if (m == kMapTime) {
+      lo[c] = samples_.t.front();
+      hi[c] = samples_.t.back();
+    } else {
+      lo[c] = hi[c] = 0.0;
+    }
+    centre_[c] = 0.5 * (lo[c] + hi[c]);
+    half_[c] = 0.5 * (hi[c] - lo[c]);
+  }
+  if (equal_scale_) {
+    double h = 0;
+    for (int c = 0; c < 3; ++c)
+      if (map_[c] >= 0) h = std::max(h, half_[c]);
+    for (int c = 0; c < 3; ++c)
+      if (map_[c] >= 0) half_[c] = h;
+  }
+  for (int c = 0; c < 3; ++c)
+    if (!(half_[c] > 1e-12 * std::max(1.0, std::abs(centre_[c])))) half_[c] = std::max(1e-3, 0.1 * std::abs(centre_[c]));
+}
+
+void App::coords_of_sample(std::size_t i, double c[3]) const {
+  for (int k = 0; k < 3; ++k) {
+    const int m = map_[k];
+    double v = 0.0;
+    if (m >= 0) v = samples_.q[0][std::size_t(m) * samples_.n + i];
+    else if (m == kMapTime) v = samples_.t[i];
+    c[k] = m == kMapNone ? 0.0 : (v - centre_[k]) / half_[k];
+  }
+}
+
+void App::coords_of_point(const std::vector<double>& q, double t, double c[3]) const {
+  for (int k = 0; k < 3; ++k) {
+    const int m = map_[k];
+    double v = 0.0;
+    if (m >= 0 && std::size_t(m) < q.size()) v = q[std::size_t(m)];
+    else if (m == kMapTime) v = t;
+    c[k] = m == kMapNone ? 0.0 : (v - centre_[k]) / half_[k];
+  }
+}
+
+ImVec2 App::project(const double c[3]) const {
+  const float yaw = is_3d() ? yaw_ : 0.0f, pitch = is_3d() ? pitch_ : kPi / 2;
+  const float cy = std::cos(yaw), sy = std::sin(yaw), cp = std::cos(pitch), sp = std::sin(pitch);
+  const float x = float(c[0]), y = float(c[1]), z = float(c[2]);
+  const float x1 = cy * x - sy * y, y1 = sy * x + cy * y;
+  const float up = cp * z + sp * y1;
+  return {origin_.x + (x1 + pan_.x) * scale_, origin_.y - (up + pan_.y) * scale_};
+}
+
+void App::update_speed() {
+  if (speed_generation_ == seen_generation_ && std::equal(map_, map_ + 3, speed_map_)) return;
+  speed_generation_ = seen_generation_;
+  std::copy(map_, map_ + 3, speed_map_);
+  const std::size_t n = samples_.n;
+  speed_.assign(n, 0.0f);
+  for (int c = 0; c < 3; ++c) {
+    if (map_[c] < 0) continue;
+    const float* v = samples_.series(1, std::size_t(map_[c]));
+    for (std::size_t i = 0; i < n; ++i) speed_[i] += v[i] * v[i];
+  }
+  speed_max_ = 0.0f;
+  for (auto& s : speed_) {
+    s = std::sqrt(s);
+    speed_max_ = std::max(speed_max_, s);
+  }
+}
+
+void App::draw_grid(ImDrawList* dl) {
+  const Scene& s = doc_.shown()->scene;
+  const int kLines = 8;
+  const double z0 = is_3d() ? -1.0 : 0.0;
+  for (int i = 0; i <= kLines; ++i) {
+    const double f = -1.0 + 2.0 * double(i) / kLines;
+    const double a[3] = {f, -1, z0}, b[3] = {f, 1, z0}, c[3] = {-1, f, z0}, d[3] = {1, f, z0};
+    const ImU32 colr = (i == 0 || i == kLines) ? col::kGridStrong : col::kGrid;
+    dl->AddLine(project(a), project(b), colr, 1.0f);
+    dl->AddLine(project(c), project(d), colr, 1.0f);
+  }
+  // The three edges from the low corner, labelled with the mapped quantity and its range.
+  const double o[3] = {-1, -1, z0};
+  for (int c = 0; c < 3; ++c) {
+    if (map_[c] == kMapNone) continue;
+    double e[3] = {-1, -1, z0};
+    e[c] = 1.0;
+    if (c == 2) e[2] = 1.0;
+    const ImVec2 po = project(o), pe = project(e);
+    dl->AddLine(po, pe, col::kGridStrong, 1.5f);
+    const std::string name = coord_label(s, map_[c]);
+    const std::string lo = fmt::num(centre_[c] - half_[c], 4), hi = fmt::num(centre_[c] + half_[c], 4);
+    const char* which = c == 0 ? "X " : c == 1 ? "Y " : "Z ";
+    dl->AddText({pe.x + 4, pe.y - 6}, col::kText, (which + name).c_str());
+    dl->AddText({pe.x + 4, pe.y + 7}, col::kTextDim, hi.c_str());
+    dl->AddText({po.x - 60.0f, po.y - 6.0f + 13.0f * float(c)}, col::kTextDim, (which + lo).c_str());
+  }
+}
+
+void App::draw_path(ImDrawList* dl) {
+  const std::size_t n = samples_.n;
+  if (n < 2) return;
+  proj_.resize(n);
+  value_.resize(n);
+  double c[3];
+  for (std::size_t i = 0; i < n; ++i) {
+    coords_of_sample(i, c);
+    proj_[i] = project(c);
+  }
+  if (colour_ == ColourBy::kSpeed) {
+    update_speed();
+    const float inv = speed_max_ > 0 ? 1.0f / speed_max_ : 0.0f;
+    for (std::size_t i = 0; i < n; ++i) value_[i] = std::min(1.0f, speed_[i] * inv);
+  } else {
+    for (std::size_t i = 0; i < n; ++i) value_[i] = samples_.pct[i] > 100.25f ? 1.5f : std::min(1.0f, samples_.pct[i] / 100.0f);
+  }
+  auto level = [](float v) { return v > 1.0f ? 1000 : int(v * 40.0f); };
+
+  // Thinning by screen-space error: a run from the anchor is extended while every point stays
+  // within kTol pixels of the line from the anchor to the run's end (a cone of admissible
+  // directions, narrowed by each point; O(n)). A run also ends where the colour changes.
+  constexpr float kTol = 0.6f, kTol2 = kTol * kTol;
+  struct Seg { ImVec2 a, b; float v; };
+  static std::vector<Seg> segs;
+  segs.clear();
+  std::size_t anchor = 0, last = 0;
+  float run_max = value_[0];
+  int run_level = level(value_[0]);
+  bool cone = false;
+  ImVec2 L{0, 0}, R{0, 0};
+  for (std::size_t i = 1; i < n; ++i) {
+    ImVec2 d{proj_[i].x - proj_[anchor].x, proj_[i].y - proj_[anchor].y};
+    float r2 = d.x * d.x + d.y * d.y;
+    if (r2 <= kTol2) {
+      last = i;
+      run_max = std::max(run_max, value_[i]);
+      continue;
+    }
+    float r = std::sqrt(r2);
+    ImVec2 u{d.x / r, d.y / r};
+    const int li = level(value_[i]);
+    const bool inside = cone && cross(R, u) >= 0.0f && cross(u, L) >= 0.0f;
+    if (li != run_level || (cone && !inside)) {
+      if (last != anchor) segs.push_back({proj_[anchor], proj_[last], run_max});
+      anchor = last;
+      run_level = li;
+      run_max = value_[i];
+      cone = false;
+      d = {proj_[i].x - proj_[anchor].x, proj_[i].y - proj_[anchor].y};
+      r2 = d.x * d.x + d.y * d.y;
+      if (r2 <= kTol2) {
+        last = i;
+        continue;
+      }
+      r = std::sqrt(r2);
+      u = {d.x / r, d.y / r};
+    }
+    const float sn = kTol / r, cs = std::sqrt(std::max(0.0f, 1.0f - sn * sn));
+    const ImVec2 left{u.x * cs - u.y * sn, u.x * sn + u.y * cs}, right{u.x * cs + u.y * sn, -u.x * sn + u.y * cs};
+    if (!cone) {
+      L = left;
+      R = right;
+      cone = true;
+    } else {
+      if (cross(L, left) < 0.0f) L = left;
+      if (cross(R, right) > 0.0f) R = right;
+    }
+    last = i;
+    run_max = std::max(run_max, value_[i]);
+  }
+  if (last != anchor) segs.push_back({proj_[anchor], proj_[last], run_max});
+  drawn_segments_ = segs.size();
+
+  // Draw runs of one colour as polylines (joined), beyond-limit runs thicker.
+  std::size_t i = 0;
+  while (i < segs.size()) {
+    const ImU32 colr = ramp(segs[i].v);
+    const bool beyond = segs[i].v > 1.0f;
+    dl->PathLineTo(segs[i].a);
+    std::size_t j = i;
+    while (j < segs.size() && ramp(segs[j].v) == colr && (j == i || dist2(segs[j].a, segs[j - 1].b) < 0.01f)) {
+      dl->PathLineTo(segs[j].b);
+      ++j;
+    }
+    dl->PathStroke(colr, 0, beyond ? 4.0f : 2.5f);
+    i = j;
+  }
+}
+
+void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
+  const Scene& s = doc_.scene();
+  const Planned* p = doc_.shown();
+  const std::size_t n = s.waypoints.size();
+  const ImVec2 mouse = ImGui::GetMousePos();
+  const bool times_ok = p && std::size_t(p->plan.waypoint_times.size()) == n;
+  float best = 9.0f * 9.0f;
+  int hover = -1;
+  ImVec2 last_drawn{-1e9f, -1e9f};
+  double c[3];
+  for (std::size_t k = 0; k < n; ++k) {
+    const Waypoint& w = s.waypoints[k];
+    const double t = times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0);
+    coords_of_point(w.q, t, c);
+    const ImVec2 pt = project(c);
+    const float d2m = dist2(pt, mouse);
+    if (hovered_canvas && d2m < best) {
+      best = d2m;
+      hover = int(k);
+    }
+    const bool special = int(k) == selected_ || int(k) == hover_wp_ || int(k) == drag_wp_ || k == 0 || k + 1 == n;
+    if (!special && dist2(pt, last_drawn) < 18.0f * 18.0f) continue;
+    if (pt.x < view_rect_.min.x - 20 || pt.x > view_rect_.max.x + 20 || pt.y < view_rect_.min.y - 20 ||
+        pt.y > view_rect_.max.y + 20)
+      continue;
+    last_drawn = pt;
+    const bool sel = int(k) == selected_ || int(k) == drag_wp_;
+    const bool hot = int(k) == hover_wp_;
+    const float r = sel || hot ? 9.0f : 7.5f;
+    const ImU32 fill = sel ? col::kHandleSel : hot ? rgba(230, 232, 236) : col::kHandle;
+    if (w.stop) {
+      dl->AddRectFilled({pt.x - r, pt.y - r}, {pt.x + r, pt.y + r}, fill, 2.0f);
+      dl->AddRect({pt.x - r, pt.y - r}, {pt.x + r, pt.y + r}, col::kHandleRim, 2.0f, 0, 1.5f);
+    } else {
+      dl->AddCircleFilled(pt, r, fill, 20);
+      dl->AddCircle(pt, r, col::kHandleRim, 20, 1.5f);
+    }
+    if (sel) dl->AddCircle(pt, r + 3.0f, col::kCaution, 24, 2.0f);
+    const std::string label = std::to_string(k + 1);
+    const ImVec2 ts = ImGui::CalcTextSize(label.c_str());
+    if (ts.x <= 2.0f * r + 1.0f) dl->AddText({pt.x - ts.x * 0.5f, pt.y - ts.y * 0.5f}, col::kHandleRim, label.c_str());
+    else dl->AddText({pt.x + r + 2.0f, pt.y - ts.y * 0.5f}, col::kText, label.c_str());
+  }
+  if (drag_wp_ < 0) hover_wp_ = hover;
+}
+
+void App::draw_pose(ImDrawList* dl) {
+  const auto& tr = *doc_.shown()->plan.trajectory;
+  Eigen::VectorXd q(tr.axes());
+  tr.eval(t_, 0, q);
+  std::vector<double> qv(q.data(), q.data() + q.size());
+  double c[3];
+  coords_of_point(qv, t_, c);
+  const ImVec2 pt = project(c);
+  dl->AddCircle(pt, 11.0f, rgba(0, 0, 0, 160), 28, 5.0f);
+  dl->AddCircle(pt, 11.0f, col::kPose, 28, 2.0f);
+  dl->AddLine({pt.x - 17, pt.y}, {pt.x - 6, pt.y}, col::kPose, 2.0f);
+  dl->AddLine({pt.x + 6, pt.y}, {pt.x + 17, pt.y}, col::kPose, 2.0f);
+  dl->AddLine({pt.x, pt.y - 17}, {pt.x, pt.y - 6}, col::kPose, 2.0f);
+  dl->AddLine({pt.x, pt.y + 6}, {pt.x, pt.y + 17}, col::kPose, 2.0f);
+  const std::string lab = "t " + fmt::num(t_, 4) + " s";
+  dl->AddText({pt.x + 14, pt.y - 22}, col::kPose, lab.c_str());
+}
+
+void App::view_panel(const ImVec2& pos, const ImVec2& size) {
+  ImGui::SetNextWindowPos(pos);
+  ImGui::SetNextWindowSize(size);
+  ImGui::Begin("##view", nullptr, kPanel);
+  const Planned* p = doc_.shown();
+
+  // Header: axis mapping and colour quantity.
+  if (p) {
+    const Scene& s = p->scene;
+    static const char* kWhich[] = {"X", "Y", "Z"};
+    for (int c = 0; c < 3; ++c) {
+      ImGui::PushID(c);
+      if (c > 0) ImGui::SameLine();
+      ImGui::AlignTextToFramePadding();
+      ImGui::TextUnformatted(kWhich[c]);
+      ImGui::SameLine();
+      ImGui::SetNextItemWidth(96);
+      const std::string cur = map_[c] >= 0 ? s.axes[std::size_t(map_[c])].name : map_[c] == kMapTime ? "(time)" : "(none)";
+      if (ImGui::BeginCombo("##map", cur.c_str())) {
+        for (int a = 0; a < int(s.axes.size()); ++a)
+          if (ImGui::Selectable(s.axes[std::size_t(a)].name.c_str(), map_[c] == a)) { map_[c] = a; frame_all(); }
+        if (ImGui::Selectable("(time)", map_[c] == kMapTime)) { map_[c] = kMapTime; frame_all(); }
+        if (c > 0 && ImGui::Selectable("(none)", map_[c] == kMapNone)) { map_[c] = kMapNone; frame_all(); }
+        ImGui::EndCombo();
+      }
+      ImGui::PopID();
+    }
+    ImGui::SameLine(0, 16);
+    ImGui::AlignTextToFramePadding();
+    ImGui::TextUnformatted("colour");
+    ImGui::SameLine();
+    ImGui::SetNextItemWidth(150);
+    int ci = colour_ == ColourBy::kSpeed ? 1 : 0;
+    static const char* kColourNames[] = {"highest % of limit", "speed (X, Y, Z axes)"};
+    if (ImGui::Combo("##colour", &ci, kColourNames, 2)) colour_ = ci == 1 ? ColourBy::kSpeed : ColourBy::kLimitPct;
+    ImGui::SameLine();
+    if (ImGui::Checkbox("same scale", &equal_scale_)) frame_all();
+    if (ImGui::IsItemHovered()) ImGui::SetTooltip("one scale for all mapped axes (true proportions when they share a unit)");
+
+    // Legend: the ramp with its meaning.
+    ImDrawList* dl = ImGui::GetWindowDrawList();
+    const ImVec2 l0 = ImGui::GetCursorScreenPos();
+    const float lw = 220.0f, lh = 10.0f, ly = l0.y + 4.0f;
+    const int kSteps = 44;
+    for (int i = 0; i < kSteps; ++i) {
+      const float a = float(i) / float(kSteps), b = float(i + 1) / float(kSteps);
+      dl->AddRectFilled({l0.x + a * lw, ly}, {l0.x + b * lw + 0.5f, ly + lh}, ramp(a));
+    }
+    std::string lo_lab, hi_lab;
+    if (colour_ == ColourBy::kLimitPct) {
+      dl->AddRectFilled({l0.x + lw + 8, ly}, {l0.x + lw + 30, ly + lh}, ramp(2.0f));
+      lo_lab = "0";
+      hi_lab = "100% of the nearest limit (vel, acc, jerk)";
+      dl->AddText({l0.x + lw + 34, ly - 2}, col::kText, "beyond a limit");
+    } else {
+      update_speed();
+      std::string unit;
+      for (int c = 0; c < 3; ++c)
+        if (map_[c] >= 0) {
+          const std::string& u = s.axes[std::size_t(map_[c])].unit;
+          if (unit.empty()) unit = u;
+          else if (unit != u) unit = "mixed units";
+        }
+      lo_lab = "0";
+      hi_lab = fmt::num(speed_max_, 4) + " " + (unit.empty() ? "unit" : unit) + "/s (peak)";
+    }
+    ImGui::Dummy({lw, lh + 16.0f});
+    dl->AddText({l0.x, ly + lh + 1}, col::kTextDim, lo_lab.c_str());
+    const ImVec2 hs = ImGui::CalcTextSize(hi_lab.c_str());
+    (void)hs;
+    dl->AddText({l0.x + 14.0f, ly + lh + 1}, col::kTextDim, ("..  " + hi_lab).c_str());
+    ImGui::SameLine(lw + 230.0f);
+    ImGui::TextColored(ImColor(col::kTextDim), is_3d() ? "drag: orbit | right: pan | wheel: zoom | handle: move"
+                                                       : "drag: pan | wheel: zoom | handle: move");
+  }
+  if (!doc_.load_error().empty())
+    ImGui::TextColored(ImColor(col::kBad), "%s\nFix the file and press R to reload.", doc_.load_error().c_str());
+  else if (!doc_.edit_error().empty()) {
+    ImGui::PushTextWrapPos(0.0f);
+    ImGui::TextColored(ImColor(col::kWarn), "This edit cannot be planned: %s. Showing the last valid plan.",
+                       doc_.edit_error().c_str());
+    ImGui::PopTextWrapPos();
+  }
+
+  // Canvas.
+  const ImVec2 c0 = ImGui::GetCursorScreenPos();
+  ImVec2 avail = ImGui::GetContentRegionAvail();
+  avail.x = std::max(avail.x, 50.0f);
+  avail.y = std::max(avail.y, 50.0f);
+  ImGui::InvisibleButton("##canvas", avail,
+                         ImGuiButtonFlags_MouseButtonLeft | ImGuiButtonFlags_MouseButtonRight | ImGuiButtonFlags_MouseButtonMiddle);
+  const bool hovered = ImGui::IsItemHovered();
+  const bool active = ImGui::IsItemActive();
+  view_rect_ = {c0, {c0.x + avail.x, c0.y + avail.y}};
+  ImDrawList* dl = ImGui::GetWindowDrawList();
+  dl->PushClipRect(view_rect_.min, view_rect_.max, true);
+  dl->AddRectFilled(view_rect_.min, view_rect_.max, col::kCanvas);
+  if (!have_samples_ || !doc_.has_scene()) {
+    const char* msg = doc_.has_scene() ? "No valid plan yet: see the message above." : "No scene loaded.";
+    const ImVec2 ts = ImGui::CalcTextSize(msg);
+    dl->AddText({c0.x + (avail.x - ts.x) * 0.5f, c0.y + (avail.y - ts.y) * 0.5f}, col::kTextDim, msg);
+    dl->PopClipRect();
+    ImGui::End();
+    return;
+  }
+  origin_ = {c0.x + avail.x * 0.5f, c0.y + avail.y * 0.5f};
+  // At zoom 1 the box [-1, 1]^3 fits whatever the orientation (its bounding sphere fits).
+  auto fit_scale = [&] { return zoom_ * (is_3d() ? 0.5f * std::min(avail.x, avail.y * 1.1f) / 1.78f : 0.5f * std::min(avail.x, avail.y) / 1.22f); };
+  scale_ = fit_scale();
+
+  ImGuiIO& io = ImGui::GetIO();
+  // Interaction before drawing, so the frame shows its result.
+  if (hovered && io.MouseWheel != 0.0f) {
+    const ImVec2 m = io.MousePos;
+    const float x1 = (m.x - origin_.x) / scale_ - pan_.x, up = (origin_.y - m.y) / scale_ - pan_.y;
+    zoom_ = std::clamp(zoom_ * std::pow(1.15f, io.MouseWheel), 0.05f, 200.0f);
+    scale_ = fit_scale();
+    pan_.x = (m.x - origin_.x) / scale_ - x1;
+    pan_.y = (origin_.y - m.y) / scale_ - up;
+  }
+  if (ImGui::IsItemActivated() && ImGui::IsMouseClicked(0) && hover_wp_ >= 0 &&
+      hover_wp_ < int(doc_.scene().waypoints.size())) {
+    drag_wp_ = hover_wp_;
+    selected_ = drag_wp_;
+    scroll_to_selected_ = true;
+    drag_q0_ = doc_.scene().waypoints[std::size_t(drag_wp_)].q;
+    drag_mouse0_ = io.MousePos;
+    doc_.begin_gesture();
+  }
+  if (drag_wp_ >= 0) {
+    if (ImGui::IsMouseDown(0) && drag_wp_ < int(doc_.scene().waypoints.size())) {
+      const float dx = (io.MousePos.x - drag_mouse0_.x) / scale_, dy = -(io.MousePos.y - drag_mouse0_.y) / scale_;
+      const float yaw = is_3d() ? yaw_ : 0.0f, pitch = is_3d() ? pitch_ : kPi / 2;
+      const float cy = std::cos(yaw), sy = std::sin(yaw), cp = std::cos(pitch), sp = std::sin(pitch);
+      // World directions of the screen's right and up vectors (rows of the view rotation).
+      const float right[3] = {cy, -sy, 0.0f};
+      const float upv[3] = {sp * sy, sp * cy, cp};
+      Waypoint& w = doc_.edit().waypoints[std::size_t(drag_wp_)];
+      bool moved = false;
+      for (int c = 0; c < 3; ++c) {
+        const int m = map_[c];
+        if (m < 0 || std::size_t(m) >= w.q.size()) continue;
+        const double v = drag_q0_[std::size_t(m)] + double(dx * right[c] + dy * upv[c]) * half_[c];
+        if (v != w.q[std::size_t(m)]) {
+          w.q[std::size_t(m)] = v;
+          moved = true;
+        }
+      }
+      if (moved) doc_.changed();
+    } else {
+      doc_.end_gesture();
+      drag_wp_ = -1;
+    }
+  } else if (active) {
+    const ImVec2 d = io.MouseDelta;
+    if (ImGui::IsMouseDown(0) && is_3d()) {
+      yaw_ += d.x * 0.008f;
+      pitch_ = std::clamp(pitch_ + d.y * 0.008f, -kPi / 2, kPi / 2);
+    } else if (ImGui::IsMouseDown(0) || ImGui::IsMouseDown(1) || ImGui::IsMouseDown(2)) {
+      pan_.x += d.x / scale_;
+      pan_.y -= d.y / scale_;
+    }
+  }
+  if (hovered && ImGui::IsMouseDoubleClicked(0) && hover_wp_ < 0) frame_all();
+  if (hovered && ImGui::IsMouseClicked(0) && hover_wp_ < 0 && drag_wp_ < 0) { /* orbit, keep selection */ }
+
+  draw_grid(dl);
+  draw_path(dl);
+  draw_handles(dl, hovered && drag_wp_ < 0);
+  draw_pose(dl);
+  if (hover_wp_ >= 0 && hover_wp_ < int(doc_.scene().waypoints.size()) && drag_wp_ < 0) {
+    const Waypoint& w = doc_.scene().waypoints[std::size_t(hover_wp_)];
+    std::string tip = "waypoint " + std::to_string(hover_wp_ + 1);
+    if (w.t) tip += "  t " + fmt::num(*w.t) + " s";
+    for (std::size_t a = 0; a < w.q.size() && a < doc_.scene().axes.size(); ++a)
+      tip += "\n" + doc_.scene().axes[a].name + " " + fmt::num(w.q[a]) + " " + doc_.scene().axes[a].unit;
+    tip += "\ndrag to move it in the view plane";
+    ImGui::SetTooltip("%s", tip.c_str());
+  }
+  dl->PopClipRect();
+  ImGui::End();
+}
+
+}  // namespace c2path::viewer

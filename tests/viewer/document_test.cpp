@@ -1,0 +1,169 @@
+// The viewer's document without a display: re-planning on edits, invalid edits keeping the last
+// valid plan, undo/redo, add/delete/reorder, saving.
+
+#include <catch2/catch.hpp>
+
+#include <cstdio>
+#include <filesystem>
+#include <string>
+
+#include "c2path/scene_yaml.hpp"
+#include "document.hpp"
+
+using c2path::viewer::Document;
+
+namespace {
+const std::string kScene = std::string(C2PATH_SCENES) + "/slider_pan.yaml";
+double q(const Document& d, int k, int a) { return d.scene().waypoints[std::size_t(k)].q[std::size_t(a)]; }
+}  // namespace
+
+TEST_CASE("viewer document: loads and plans a demo scene", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(kScene));
+  REQUIRE(d.shown() != nullptr);
+  CHECK(d.load_error().empty());
+  CHECK(d.up_to_date());
+  CHECK(d.shown()->report.ok);
+  CHECK(d.shown()->scene.waypoints.size() == 5);
+  CHECK_FALSE(d.modified());
+  CHECK_FALSE(d.can_undo());
+}
+
+TEST_CASE("viewer document: re-plans once per change, not on every call", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(kScene));
+  const auto g0 = d.generation();
+  CHECK_FALSE(d.replan());
+  CHECK(d.generation() == g0);
+  d.begin_gesture();
+  d.edit().waypoints[2].q[0] = 1.3;
+  d.changed();
+  d.end_gesture();
+  CHECK_FALSE(d.up_to_date());
+  CHECK(d.replan());
+  CHECK(d.generation() == g0 + 1);
+  CHECK(d.shown()->scene.waypoints[2].q[0] == 1.3);
+  CHECK_FALSE(d.replan());
+  CHECK(d.modified());
+}
+
+TEST_CASE("viewer document: an invalid edit keeps the last valid plan", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(kScene));
+  const auto* before = d.shown();
+  d.begin_gesture();
+  d.edit().waypoints[2].t = 1.0;  // before waypoint 2's time 2.5: out of order
+  d.changed();
+  d.end_gesture();
+  CHECK_FALSE(d.replan());
+  CHECK_FALSE(d.edit_error().empty());
+  CHECK(d.edit_error().find("waypoint") != std::string::npos);
+  CHECK(d.shown() == before);
+  CHECK(d.shown()->scene.waypoints[2].t == 5.0);
+  // Coincident waypoints are refused too.
+  d.edit().waypoints[2].t = 5.0;
+  d.edit().waypoints[2].q = d.scene().waypoints[1].q;
+  d.edit().waypoints[2].t = 2.5 + 1e-3;
+  d.changed();
+  d.replan();
+  // Fixing the scene brings a new plan and clears the error.
+  d.edit().waypoints[2].q = {1.2, 0.0, -10.0};
+  d.edit().waypoints[2].t = 5.0;
+  d.changed();
+  CHECK(d.replan());
+  CHECK(d.edit_error().empty());
+  CHECK(d.shown() != before);
+}
+
+TEST_CASE("viewer document: undo and redo restore whole gestures", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(kScene));
+  d.begin_gesture();  // one drag: several changes, one undo step
+  for (int i = 1; i <= 5; ++i) {
+    d.edit().waypoints[1].q[1] = -20.0 + i;
+    d.changed();
+    d.replan();
+  }
+  d.end_gesture();
+  d.begin_gesture();  // a gesture without a change leaves no step
+  d.end_gesture();
+  CHECK(q(d, 1, 1) == -15.0);
+  REQUIRE(d.can_undo());
+  CHECK(d.undo());
+  CHECK(q(d, 1, 1) == -20.0);
+  CHECK_FALSE(d.can_undo());
+  CHECK(d.replan());
+  CHECK(d.shown()->scene.waypoints[1].q[1] == -20.0);
+  CHECK(d.redo());
+  CHECK(q(d, 1, 1) == -15.0);
+  CHECK_FALSE(d.can_redo());
+  // A new edit after an undo drops the redo branch.
+  CHECK(d.undo());
+  d.begin_gesture();
+  d.edit().waypoints[0].q[0] = 0.3;
+  d.changed();
+  d.end_gesture();
+  CHECK_FALSE(d.can_redo());
+}
+
+TEST_CASE("viewer document: add, delete and reorder waypoints", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(kScene));
+  d.add_waypoint_after(1);  // between waypoints 2 and 3 (t 2.5 and 5)
+  REQUIRE(d.scene().waypoints.size() == 6);
+  CHECK(d.scene().waypoints[2].t == 3.75);
+  CHECK(q(d, 2, 0) == Approx(0.5 * (0.65 + 1.2)));
+  CHECK(d.scene().waypoints[2].q_loc.size() == 3);
+  CHECK(d.replan());
+  CHECK(d.shown()->plan.waypoint_times.size() == 6);
+  d.add_waypoint_after(5);  // after the last: continues the last leg
+  CHECK(d.scene().waypoints.back().t == 12.5);
+  d.delete_waypoint(6);
+  d.delete_waypoint(2);
+  CHECK(d.scene().waypoints.size() == 5);
+  d.move_waypoint(0, +1);  // positions swap, times stay increasing
+  CHECK(q(d, 0, 0) == 0.65);
+  CHECK(q(d, 1, 0) == 0.20);
+  CHECK(d.scene().waypoints[0].t == 0.0);
+  CHECK(d.replan());
+  int undos = 0;
+  while (d.undo()) ++undos;
+  CHECK(undos == 5);
+  CHECK(q(d, 0, 0) == 0.20);
+  CHECK(d.scene().waypoints.size() == 5);
+}
+
+TEST_CASE("viewer document: save writes a scene that loads back with the edits", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(kScene));
+  d.edit().waypoints[3].q[2] = -7.25;
+  d.changed();
+  const auto out = std::filesystem::temp_directory_path() / "c2path_viewer_doc_test.yaml";
+  d.save(out.string());
+  CHECK_FALSE(d.modified());
+  const c2path::Scene back = c2path::load_scene_file(out.string());
+  CHECK(back.waypoints[3].q[2] == -7.25);
+  CHECK(back.waypoints.size() == 5);
+  std::filesystem::remove(out);
+}
+
+TEST_CASE("viewer document: a file that does not load reports its error and keeps the old scene", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(kScene));
+  const auto bad = std::filesystem::temp_directory_path() / "c2path_viewer_bad.yaml";
+  {
+    std::FILE* f = std::fopen(bad.string().c_str(), "w");
+    REQUIRE(f);
+    std::fputs("format: 1\nrig: [\n", f);
+    std::fclose(f);
+  }
+  CHECK_FALSE(d.load(bad.string()));
+  CHECK(d.load_error().find("c2path_viewer_bad.yaml:") != std::string::npos);
+  CHECK(d.has_scene());
+  CHECK(d.shown() != nullptr);
+  std::filesystem::remove(bad);
+  Document fresh;
+  CHECK_FALSE(fresh.load(bad.string()));
+  CHECK_FALSE(fresh.has_scene());
+  CHECK(fresh.shown() == nullptr);
+}
