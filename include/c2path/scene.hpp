@@ -23,7 +23,10 @@ struct AxisSpec {
   std::optional<double> vel;  ///< largest |velocity| [unit/s], > 0
   std::optional<double> acc;  ///< largest |acceleration| [unit/s^2], > 0
   std::optional<double> jerk; ///< largest |jerk| [unit/s^3], > 0
+  std::optional<double> counts_per_unit;  ///< controller counts per unit (export --units counts), non-zero
+  std::optional<double> offset;           ///< count value at position 0 [counts] (export --units counts)
   SourceLoc loc;              ///< where the axis entry starts
+  SourceLoc counts_loc;       ///< where counts_per_unit is
 };
 
 /// How the move is timed.

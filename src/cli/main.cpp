@@ -17,17 +17,13 @@
 #include "c2path/limits.hpp"
 #include "c2path/scene_yaml.hpp"
 #include "c2path/timing.hpp"
+#include "commands.hpp"
 #include "report.hpp"
 
 namespace {
 
 using namespace c2path;
 using namespace c2path::cli;
-
-bool same_file(const std::string& a, const std::string& b) {
-  std::error_code ec;
-  return std::filesystem::exists(a, ec) && std::filesystem::exists(b, ec) && std::filesystem::equivalent(a, b, ec);
-}
 
 int run_view(const std::string& scene, const char* argv0) {
   std::string exe = "c2path-view";
@@ -50,20 +46,17 @@ int main(int argc, char** argv) {
   CLI::App app{"c2path: smooth (C2) moves for motion-control rigs and small robots, checked against each axis's limits"};
   app.set_version_flag("--version", std::string("c2path ") + C2PATH_VERSION);
   app.require_subcommand(1);
-  std::string scene_path, out_path, format = "csv";
-  bool json = false, allow = false;
-  std::optional<double> rate;
+  std::string scene_path;
+  bool json = false;
 
   auto* check = app.add_subcommand("check", "report travel, peak vel/acc/jerk and every limit violation; exit 0 within limits, 1 violations, 2 bad input");
   check->add_option("SCENE", scene_path, "scene file (YAML, format 1), or - for standard input")->required();
   check->add_flag("--json", json, "print one JSON object instead of the table");
 
-  auto* exp = app.add_subcommand("export", "write setpoints sampled at the controller's rate (refuses a move with violations)");
-  exp->add_option("SCENE", scene_path, "scene file, or - for standard input")->required();
-  exp->add_option("-o,--output", out_path, "output file (written atomically)")->required();
-  exp->add_option("--rate", rate, "samples per second [Hz]; overrides export: rate in the scene");
-  exp->add_option("--format", format, "output format")->check(CLI::IsMember({"csv"}));
-  exp->add_flag("--allow-violations", allow, "export even when limits are exceeded");
+  ExportArgs export_args;
+  auto* exp = add_export_command(app, export_args);
+  VerifyArgs verify_args;
+  auto* verify = add_verify_command(app, verify_args);
 
   auto* view = app.add_subcommand("view", "open the scene in the viewer (c2path-view)");
   view->add_option("SCENE", scene_path, "scene file")->required();
@@ -92,29 +85,8 @@ int main(int argc, char** argv) {
       else print_table(l);
       return l.report.ok ? 0 : 1;
     }
-    if (*exp) {
-      if (rate && !(std::isfinite(*rate) && *rate > 0.0)) throw Error("--rate must be a positive number of Hz");
-      if (scene_path != "-" && same_file(scene_path, out_path))
-        throw Error(out_path, SourceLoc{}, "is the scene file itself; choose another output file");
-      const Loaded l = load_and_check(scene_path);
-      if (!l.report.ok && !allow) {
-        std::fprintf(stderr, "c2path: the move exceeds its limits; nothing written (use --allow-violations to export anyway)\n");
-        print_violations(stderr, l);
-        print_stretch(stderr, l);
-        return 1;
-      }
-      ExportOptions o;
-      o.rate_hz = rate ? *rate : (l.scene.exports.rate_hz ? *l.scene.exports.rate_hz : kDefaultRateHz);
-      std::vector<std::string> names;
-      for (const auto& a : l.scene.axes) names.push_back(a.name);
-      const std::size_t rows = export_file(*l.plan.trajectory, names, o, out_path);
-      std::printf("wrote %s: %zu setpoints at %s Hz, t %s .. %s s (%s)\n", out_path.c_str(), rows, num(o.rate_hz).c_str(),
-                  num(l.report.t_begin).c_str(), num(l.report.t_end).c_str(),
-                  l.report.ok ? "within limits" : "LIMITS EXCEEDED, exported with --allow-violations");
-      if (!l.report.ok) print_violations(stdout, l);
-      std::printf("%s\n", kCaution);
-      return 0;
-    }
+    if (*exp) return run_export(export_args);
+    if (*verify) return run_verify(verify_args);
   } catch (const Error& e) {
     std::fprintf(stderr, "%s%s\n", e.file().empty() ? "c2path: " : "", e.what());
     return 2;

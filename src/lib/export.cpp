@@ -1,16 +1,94 @@
 #include "c2path/export.hpp"
 
+#include <algorithm>
 #include <charconv>
 #include <cmath>
+#include <cstring>
 
 #include "c2path/error.hpp"
 #include "detail/atomic_file.hpp"
 
 namespace c2path {
 
+const char* to_string(ExportFormat f) {
+  switch (f) {
+    case ExportFormat::kCsv: return "csv";
+    case ExportFormat::kJsonl: return "jsonl";
+    case ExportFormat::kPvt: return "pvt";
+  }
+  return "?";
+}
+
+std::string to_string(const Rational& r) {
+  if (r.den == 1) return std::to_string(r.num);
+  return std::to_string(r.num) + "/" + std::to_string(r.den);
+}
+
+namespace {
+// Camera frame rates. The fractional ones are the 1000/1001 rates of NTSC-derived video
+// (24000/1001, 30000/1001, 60000/1001), as in SMPTE practice (recalled, not looked up).
+struct NamedRate {
+  const char* name;
+  const char* exact;
+  Rational rate;
+};
+const NamedRate kFrameRates[] = {
+    {"23.976", "24000/1001", {24000, 1001}}, {"24", "24", {24, 1}}, {"25", "25", {25, 1}},
+    {"29.97", "30000/1001", {30000, 1001}},  {"30", "30", {30, 1}}, {"48", "48", {48, 1}},
+    {"50", "50", {50, 1}},                   {"59.94", "60000/1001", {60000, 1001}}, {"60", "60", {60, 1}},
+};
+}  // namespace
+
+const std::vector<std::string>& frame_rate_names() {
+  static const std::vector<std::string> names = [] {
+    std::vector<std::string> v;
+    for (const auto& r : kFrameRates) v.emplace_back(r.name);
+    return v;
+  }();
+  return names;
+}
+
+std::optional<Rational> parse_frame_rate(std::string_view text) {
+  for (const auto& r : kFrameRates)
+    if (text == r.name || text == r.exact) return r.rate;
+  return std::nullopt;
+}
+
+Columns parse_columns(std::string_view text) {
+  Columns c{false, false, false, false};
+  std::size_t start = 0;
+  if (text.empty()) throw Error("--columns: give one or more of pos, vel, acc, jerk separated by commas");
+  while (start <= text.size()) {
+    const std::size_t comma = std::min(text.find(',', start), text.size());
+    const std::string_view w = text.substr(start, comma - start);
+    if (w == "pos") c.pos = true;
+    else if (w == "vel") c.vel = true;
+    else if (w == "acc") c.acc = true;
+    else if (w == "jerk") c.jerk = true;
+    else throw Error("--columns: '" + std::string(w) + "' is not a column; valid: pos, vel, acc, jerk");
+    start = comma + 1;
+  }
+  return c;
+}
+
 void ExportOptions::validate() const {
-  if (!(std::isfinite(rate_hz) && rate_hz > 0.0)) throw Error("export: the rate must be a positive number of Hz");
-  if (rate_hz > 1e7) throw Error("export: the rate must be at most 10 MHz");
+  if (exact_rate) {
+    if (!(exact_rate->num > 0 && exact_rate->den > 0 && exact_rate->den <= 1'000'000))
+      throw Error("export: an exact rate needs a positive numerator and a denominator in 1..1000000");
+  } else if (!(std::isfinite(rate_hz) && rate_hz > 0.0)) {
+    throw Error("export: the rate must be a positive number of Hz");
+  }
+  if (rate() > 1e7) throw Error("export: the rate must be at most 10 MHz");
+  if (format == ExportFormat::kPvt) {
+    if (frames) throw Error("export: PVT points are spaced by --rate (or --spacing), not by camera frames; drop --fps");
+    if (time == TimeColumn::kIndex) throw Error("export: PVT points carry their time in seconds; drop --time index");
+  } else if (!(columns.pos || columns.vel || columns.acc || columns.jerk)) {
+    throw Error("export: choose at least one column (pos, vel, acc, jerk)");
+  }
+  if (units == ExportUnits::kCounts)
+    for (const auto& c : counts)
+      if (!(std::isfinite(c.counts_per_unit) && c.counts_per_unit != 0.0 && std::isfinite(c.offset)))
+        throw Error("export: counts_per_unit must be a finite non-zero number and offset finite");
 }
 
 std::size_t sample_count(double t_begin, double t_end, double rate_hz) {
@@ -29,53 +107,336 @@ double sample_time(std::size_t k, std::size_t count, double t_begin, double t_en
   return t_begin + double(k) / rate_hz;
 }
 
+double SampleGrid::time(std::size_t k) const {
+  if (end_sample && k + 1 >= count) return t_end;
+  double t;
+  if (exact) t = t_begin + double(std::int64_t(k) * exact->den) / double(exact->num);  // one rounding
+  else t = t_begin + double(k) / rate_hz;
+  return std::min(t, t_end);
+}
+
 namespace {
-void put(std::string& out, double v) {
-  char buf[32];
-  if (v == 0.0) v = 0.0;  // no "-0"
-  const auto r = std::to_chars(buf, buf + sizeof buf, v);
-  out.append(buf, r.ptr);
+// An integer rate given as a double is exact as n/1; the times are then identical either way.
+std::optional<Rational> exact_of(const ExportOptions& o) {
+  if (o.exact_rate) return o.exact_rate;
+  if (o.rate_hz == std::floor(o.rate_hz) && o.rate_hz <= 1e7) return Rational{std::int64_t(o.rate_hz), 1};
+  return std::nullopt;
 }
 }  // namespace
 
-std::size_t write_setpoints(const Trajectory& tr, const std::vector<std::string>& names, const ExportOptions& o,
-                            const std::function<void(std::string_view)>& sink) {
-  o.validate();
-  if (Index(names.size()) != tr.axes()) throw Error("export: one name per axis is needed");
-  const std::size_t n = sample_count(tr.t_begin(), tr.t_end(), o.rate_hz);
-  std::string buf;
-  buf.reserve(1 << 20);
-  buf += "t";
-  for (const auto& nm : names) buf += "," + nm + "," + nm + ".vel," + nm + ".acc";
-  buf += "\n";
-  Eigen::MatrixXd st(tr.axes(), 4);
-  for (std::size_t k = 0; k < n; ++k) {
-    const double t = sample_time(k, n, tr.t_begin(), tr.t_end(), o.rate_hz);
-    tr.eval_all(t, st);
-    put(buf, t);
-    for (Index a = 0; a < tr.axes(); ++a)
-      for (int d = 0; d < 3; ++d) {
-        buf += ',';
-        put(buf, st(a, d));
-      }
-    buf += '\n';
-    if (buf.size() > (1 << 20) - 4096) {
-      sink(buf);
-      buf.clear();
+SampleGrid sample_grid(double t_begin, double t_end, const ExportOptions& o) {
+  SampleGrid g;
+  g.t_begin = t_begin;
+  g.t_end = t_end;
+  g.rate_hz = o.rate();
+  g.exact = exact_of(o);
+  g.end_sample = !(o.frames || o.time == TimeColumn::kIndex);
+  if (g.end_sample) {
+    g.count = sample_count(t_begin, t_end, g.rate_hz);
+    return g;
+  }
+  const double span = (t_end - t_begin) * g.rate_hz;
+  if (!std::isfinite(span) || span < 0) throw Error("export: the move has no valid duration");
+  if (span > double(kMaxExportSamples))
+    throw Error("export: " + std::to_string(std::llround(span)) + " samples is more than the " +
+                std::to_string(kMaxExportSamples) + " one export may write; lower the rate");
+  g.count = std::size_t(std::floor(span + 1e-9)) + 1;  // grid points 0..K, the last at or before the end
+  return g;
+}
+
+std::vector<double> rounding_error(const ExportOptions& o) {
+  std::vector<double> e(o.counts.size(), 0.0);
+  if (o.units == ExportUnits::kCounts)
+    for (std::size_t a = 0; a < o.counts.size(); ++a) e[a] = 0.5 / std::abs(o.counts[a].counts_per_unit);
+  return e;
+}
+
+std::vector<std::string> export_columns(const std::vector<std::string>& names, const ExportOptions& o) {
+  std::vector<std::string> c;
+  if (o.format == ExportFormat::kPvt) {
+    c = {"t", "dt"};
+    for (const auto& n : names) {
+      c.push_back(n);
+      c.push_back(n + ".vel");
+    }
+    return c;
+  }
+  if (o.frames) c.emplace_back("frame");
+  if (o.time == TimeColumn::kSeconds) c.emplace_back("t");
+  else if (!o.frames) c.emplace_back("sample");
+  for (const auto& n : names) {
+    if (o.columns.pos) c.push_back(n);
+    if (o.columns.vel) c.push_back(n + ".vel");
+    if (o.columns.acc) c.push_back(n + ".acc");
+    if (o.columns.jerk) c.push_back(n + ".jerk");
+  }
+  return c;
+}
+
+namespace {
+
+// A fixed output buffer written through a pointer; flushed to the sink when a row might not fit.
+class Out {
+ public:
+  Out(const std::function<void(std::string_view)>& sink, std::size_t row_max)
+      : sink_(sink), buf_(std::max<std::size_t>(1 << 20, 4 * row_max)), row_max_(row_max) {}
+  // Makes room for one row; returns true when it flushed.
+  bool room() {
+    if (n_ + row_max_ <= buf_.size()) return false;
+    flush();
+    return true;
+  }
+  void flush() {
+    if (n_) sink_(std::string_view(buf_.data(), n_));
+    n_ = 0;
+  }
+  void num(double v) {
+    if (v == 0.0) v = 0.0;  // no "-0"
+    const auto r = std::to_chars(buf_.data() + n_, buf_.data() + n_ + 32, v);
+    n_ = std::size_t(r.ptr - buf_.data());
+  }
+  void integer(std::size_t v) {
+    const auto r = std::to_chars(buf_.data() + n_, buf_.data() + n_ + 24, v);
+    n_ = std::size_t(r.ptr - buf_.data());
+  }
+  void ch(char c) { buf_[n_++] = c; }
+  void str(std::string_view s) {
+    std::memcpy(buf_.data() + n_, s.data(), s.size());
+    n_ += s.size();
+  }
+  // Text of any length (the header), flushing as needed.
+  void text(std::string_view s) {
+    while (!s.empty()) {
+      if (n_ == buf_.size()) flush();
+      const std::size_t k = std::min(s.size(), buf_.size() - n_);
+      str(s.substr(0, k));
+      s.remove_prefix(k);
     }
   }
-  sink(buf);
-  return n;
+
+ private:
+  const std::function<void(std::string_view)>& sink_;
+  std::vector<char> buf_;
+  std::size_t row_max_;
+  std::size_t n_ = 0;
+};
+
+constexpr double kMaxExactCount = 9007199254740992.0;  // 2^53: integers beyond are not exact in a double
+
+}  // namespace
+
+ExportResult write_export(const Trajectory& tr, const std::vector<std::string>& names, const ExportOptions& o,
+                          const std::function<void(std::string_view)>& sink) {
+  o.validate();
+  const Index m = tr.axes();
+  if (Index(names.size()) != m) throw Error("export: one name per axis is needed");
+  const bool counts = o.units == ExportUnits::kCounts;
+  if (counts && Index(o.counts.size()) != m) throw Error("export: counts need counts_per_unit for every axis");
+  const SampleGrid g = sample_grid(tr.t_begin(), tr.t_end(), o);
+  const std::vector<std::string> cols = export_columns(names, o);
+  const bool pvt = o.format == ExportFormat::kPvt;
+  const bool jsonl = o.format == ExportFormat::kJsonl;
+  const Columns want = pvt ? Columns{true, true, false, false} : o.columns;
+  const bool want_d[4] = {want.pos, want.vel, want.acc, want.jerk};
+
+  // JSON keys, pre-built: "{\"t\":" and ",\"NAME\":" per column.
+  std::vector<std::string> keys;
+  std::size_t row_max = 64;
+  for (std::size_t c = 0; c < cols.size(); ++c) {
+    keys.push_back(std::string(c ? ",\"" : "{\"") + cols[c] + "\":");
+    row_max += keys.back().size() + 32;
+  }
+  Out out(sink, row_max);
+  if (!jsonl) {
+    std::string header;
+    for (std::size_t c = 0; c < cols.size(); ++c) header += (c ? "," : "") + cols[c];
+    header += '\n';
+    out.text(header);
+  }
+
+  Eigen::MatrixXd st(m, 4);
+  double t_prev = g.t_begin;
+  for (std::size_t k = 0; k < g.count; ++k) {
+    const double t = g.time(k);
+    tr.eval_all(t, st);
+    if (out.room() && o.progress) o.progress(k, g.count);
+    std::size_t c = 0;
+    auto sep = [&] {
+      if (jsonl) out.str(keys[c]);
+      else if (c) out.ch(',');
+      ++c;
+    };
+    if (o.frames) {
+      sep();
+      out.integer(k);
+    }
+    if (pvt) {
+      sep();
+      out.num(t);
+      sep();
+      out.num(k ? t - t_prev : 0.0);
+    } else if (o.time == TimeColumn::kSeconds) {
+      sep();
+      out.num(t);
+    } else if (!o.frames) {
+      sep();
+      out.integer(k);
+    }
+    for (Index a = 0; a < m; ++a) {
+      const double scale = counts ? o.counts[std::size_t(a)].counts_per_unit : 1.0;
+      for (int d = 0; d < 4; ++d) {
+        if (!want_d[d]) continue;
+        sep();
+        double v = scale * st(a, d);
+        if (counts && d == 0) {
+          v = std::round(v + o.counts[std::size_t(a)].offset);
+          if (!(std::abs(v) < kMaxExactCount))
+            throw Error("export: axis '" + names[std::size_t(a)] + "' reaches " + std::to_string(v) +
+                        " counts, beyond the integers a double holds exactly; check counts_per_unit");
+        }
+        out.num(v);
+      }
+    }
+    if (jsonl) out.ch('}');
+    out.ch('\n');
+    t_prev = t;
+  }
+  out.flush();
+  if (o.progress) o.progress(g.count, g.count);
+  return {g.count, g};
+}
+
+std::size_t write_setpoints(const Trajectory& tr, const std::vector<std::string>& names, const ExportOptions& o,
+                            const std::function<void(std::string_view)>& sink) {
+  return write_export(tr, names, o, sink).rows;
+}
+
+ExportResult export_to_file(const Trajectory& tr, const std::vector<std::string>& names, const ExportOptions& o,
+                            const std::string& path) {
+  o.validate();
+  (void)sample_grid(tr.t_begin(), tr.t_end(), o);  // refuse before creating anything
+  detail::AtomicFile f(path);
+  const ExportResult r = write_export(tr, names, o, [&](std::string_view s) { f.write(s); });
+  f.commit();
+  return r;
 }
 
 std::size_t export_file(const Trajectory& tr, const std::vector<std::string>& names, const ExportOptions& o,
                         const std::string& path) {
+  return export_to_file(tr, names, o, path).rows;
+}
+
+// ---- reconstruction error ------------------------------------------------------------------------
+
+Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o) {
   o.validate();
-  (void)sample_count(tr.t_begin(), tr.t_end(), o.rate_hz);  // refuse before creating anything
-  detail::AtomicFile f(path);
-  const std::size_t n = write_setpoints(tr, names, o, [&](std::string_view s) { f.write(s); });
-  f.commit();
-  return n;
+  const Index m = tr.axes();
+  const SampleGrid g = sample_grid(tr.t_begin(), tr.t_end(), o);
+  Reconstruction r;
+  r.linear.assign(std::size_t(m), 0.0);
+  r.hermite.assign(std::size_t(m), 0.0);
+  const std::vector<double> br = tr.breaks();
+  std::size_t bi = 0;  // first break > t0 of the current interval
+  Eigen::MatrixXd s0(m, 4), s1(m, 4);
+  Eigen::VectorXd q(m);
+  tr.eval_all(g.time(0), s0);
+  double t0 = g.time(0);
+  r.t_last = t0;
+  auto compare = [&](double t, double t_a, double h) {
+    tr.eval(t, 0, q);
+    const double s = (t - t_a) / h;
+    const double s2 = s * s, s3 = s2 * s;
+    const double h00 = 2 * s3 - 3 * s2 + 1, h10 = s3 - 2 * s2 + s, h01 = -2 * s3 + 3 * s2, h11 = s3 - s2;
+    for (Index a = 0; a < m; ++a) {
+      const double lin = s0(a, 0) + s * (s1(a, 0) - s0(a, 0));
+      const double her = h00 * s0(a, 0) + h10 * h * s0(a, 1) + h01 * s1(a, 0) + h11 * h * s1(a, 1);
+      r.linear[std::size_t(a)] = std::max(r.linear[std::size_t(a)], std::abs(q[a] - lin));
+      r.hermite[std::size_t(a)] = std::max(r.hermite[std::size_t(a)], std::abs(q[a] - her));
+    }
+    ++r.points;
+  };
+  for (std::size_t k = 1; k < g.count; ++k) {
+    const double t1 = g.time(k);
+    const double h = t1 - t0;
+    if (!(h > 0.0)) continue;
+    tr.eval_all(t1, s1);
+    while (bi < br.size() && br[bi] <= t0) ++bi;
+    const bool has_break = bi < br.size() && br[bi] < t1;
+    if (has_break) {
+      for (int j = 1; j <= 16; ++j) compare(t0 + h * double(j) / 17.0, t0, h);
+    } else {
+      compare(t0 + 0.25 * h, t0, h);
+      compare(t0 + 0.5 * h, t0, h);
+      compare(t0 + 0.75 * h, t0, h);
+    }
+    s0.swap(s1);
+    t0 = t1;
+  }
+  r.t_last = t0;
+  return r;
+}
+
+RateChoice choose_rate(const Trajectory& tr, const ExportOptions& o_in, double max_error) {
+  if (!(std::isfinite(max_error) && max_error > 0.0)) throw Error("--max-error must be a positive number");
+  const bool pvt = o_in.format == ExportFormat::kPvt;
+  auto worst = [&](const Reconstruction& r) {
+    const auto& e = pvt ? r.hermite : r.linear;
+    return e.empty() ? 0.0 : *std::max_element(e.begin(), e.end());
+  };
+  RateChoice c;
+  ExportOptions o = o_in;
+  o.progress = nullptr;
+  if (o.frames) {
+    for (const auto& fr : kFrameRates) {
+      o.exact_rate = fr.rate;
+      c.error = reconstruction_error(tr, o);
+      c.exact = fr.rate;
+      c.rate_hz = fr.rate.value();
+      if (worst(c.error) <= max_error) {
+        c.found = true;
+        break;
+      }
+    }
+    c.message = std::string("searched the camera frame rates 23.976 .. 60 fps for ") + (pvt ? "cubic Hermite" : "linear") +
+                " reconstruction within the bound";
+    return c;
+  }
+  auto at = [&](std::int64_t n) {
+    o.exact_rate = Rational{n, 1};
+    return reconstruction_error(tr, o);
+  };
+  constexpr std::int64_t kMaxRate = 100000;
+  std::int64_t lo = 0, hi = 1;  // lo fails (0: none tried), hi is the candidate
+  Reconstruction rh = at(hi);
+  while (worst(rh) > max_error) {
+    if (hi >= kMaxRate) {
+      c.error = rh;
+      c.rate_hz = double(hi);
+      c.exact = Rational{hi, 1};
+      c.message = "no integer rate up to 100000 Hz keeps every axis within the bound";
+      return c;
+    }
+    lo = hi;
+    hi = std::min(hi * 2, kMaxRate);
+    rh = at(hi);
+  }
+  while (hi - lo > 1) {
+    const std::int64_t mid = lo + (hi - lo) / 2;
+    Reconstruction rm = at(mid);
+    if (worst(rm) <= max_error) {
+      hi = mid;
+      rh = std::move(rm);
+    } else {
+      lo = mid;
+    }
+  }
+  c.found = true;
+  c.rate_hz = double(hi);
+  c.exact = Rational{hi, 1};
+  c.error = std::move(rh);
+  c.message = std::string("lowest integer rate (doubling, then bisection) with ") + (pvt ? "cubic Hermite" : "linear") +
+              " reconstruction within the bound";
+  return c;
 }
 
 }  // namespace c2path

@@ -224,7 +224,7 @@ class Loader {
       AxisSpec ax;
       ax.loc = loc_of(a);
       bool named = false;
-      for (const auto& [k, v] : keys(a, where, {"name", "unit", "min", "max", "vel", "acc", "jerk"})) {
+      for (const auto& [k, v] : keys(a, where, {"name", "unit", "min", "max", "vel", "acc", "jerk", "counts_per_unit", "offset"})) {
         if (k == "name") {
           ax.name = text(v, where + ": 'name'");
           named = true;
@@ -242,6 +242,12 @@ class Loader {
           if (k == "vel") ax.vel = x;
           if (k == "acc") ax.acc = x;
           if (k == "jerk") ax.jerk = x;
+          if (k == "offset") ax.offset = x;
+          if (k == "counts_per_unit") {
+            if (x == 0.0) fail(v, where + ": 'counts_per_unit' must not be 0 (negative reverses the axis)");
+            ax.counts_per_unit = x;
+            ax.counts_loc = loc_of(v);
+          }
           if ((k == "vel" || k == "acc" || k == "jerk") && !(x > 0.0))
             fail(v, where + ": '" + k + "' must be greater than 0 (omit it to leave it unchecked)");
           if ((k == "vel" || k == "acc" || k == "jerk") && x < kMinLimit)
@@ -426,7 +432,8 @@ std::string scene_to_yaml(const Scene& s) {
     o += "    - {name: " + a.name;
     if (!a.unit.empty()) o += ", unit: " + quoted(a.unit);
     const std::pair<const char*, const std::optional<double>*> fields[] = {
-        {"min", &a.min}, {"max", &a.max}, {"vel", &a.vel}, {"acc", &a.acc}, {"jerk", &a.jerk}};
+        {"min", &a.min}, {"max", &a.max}, {"vel", &a.vel}, {"acc", &a.acc}, {"jerk", &a.jerk},
+        {"counts_per_unit", &a.counts_per_unit}, {"offset", &a.offset}};
     for (const auto& [k, v] : fields)
       if (*v) {
         o += std::string(", ") + k + ": ";
