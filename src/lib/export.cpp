@@ -4,6 +4,8 @@
 #include <charconv>
 #include <cmath>
 #include <cstring>
+#include <exception>
+#include <thread>
 
 #include "c2path/error.hpp"
 #include "detail/atomic_file.hpp"
@@ -175,53 +177,106 @@ std::vector<std::string> export_columns(const std::vector<std::string>& names, c
 
 namespace {
 
-// A fixed output buffer written through a pointer; flushed to the sink when a row might not fit.
-class Out {
+constexpr double kMaxExactCount = 9007199254740992.0;  // 2^53: integers beyond are not exact in a double
+
+// Rows per block: a block is formatted into its own buffer (by one thread) and then written whole.
+constexpr std::size_t kBlockRows = 4096;
+
+// Formats rows of one export into a buffer through a pointer (room for row_max bytes per row is
+// made before each row, so no per-number growth checks).
+class RowFormatter {
  public:
-  Out(const std::function<void(std::string_view)>& sink, std::size_t row_max)
-      : sink_(sink), buf_(std::max<std::size_t>(1 << 20, 4 * row_max)), row_max_(row_max) {}
-  // Makes room for one row; returns true when it flushed.
-  bool room() {
-    if (n_ + row_max_ <= buf_.size()) return false;
-    flush();
-    return true;
-  }
-  void flush() {
-    if (n_) sink_(std::string_view(buf_.data(), n_));
-    n_ = 0;
-  }
-  void num(double v) {
-    if (v == 0.0) v = 0.0;  // no "-0"
-    const auto r = std::to_chars(buf_.data() + n_, buf_.data() + n_ + 32, v);
-    n_ = std::size_t(r.ptr - buf_.data());
-  }
-  void integer(std::size_t v) {
-    const auto r = std::to_chars(buf_.data() + n_, buf_.data() + n_ + 24, v);
-    n_ = std::size_t(r.ptr - buf_.data());
-  }
-  void ch(char c) { buf_[n_++] = c; }
-  void str(std::string_view s) {
-    std::memcpy(buf_.data() + n_, s.data(), s.size());
-    n_ += s.size();
-  }
-  // Text of any length (the header), flushing as needed.
-  void text(std::string_view s) {
-    while (!s.empty()) {
-      if (n_ == buf_.size()) flush();
-      const std::size_t k = std::min(s.size(), buf_.size() - n_);
-      str(s.substr(0, k));
-      s.remove_prefix(k);
+  RowFormatter(const Trajectory& tr, const std::vector<std::string>& names, const ExportOptions& o, const SampleGrid& g,
+               const std::vector<std::string>& cols)
+      : tr_(tr), names_(names), o_(o), g_(g), m_(tr.axes()) {
+    const bool pvt = o.format == ExportFormat::kPvt;
+    jsonl_ = o.format == ExportFormat::kJsonl;
+    pvt_ = pvt;
+    counts_ = o.units == ExportUnits::kCounts;
+    const Columns want = pvt ? Columns{true, true, false, false} : o.columns;
+    want_[0] = want.pos;
+    want_[1] = want.vel;
+    want_[2] = want.acc;
+    want_[3] = want.jerk;
+    row_max_ = 64;
+    for (std::size_t c = 0; c < cols.size(); ++c) {
+      keys_.push_back(std::string(c ? ",\"" : "{\"") + cols[c] + "\":");
+      row_max_ += keys_.back().size() + 32;
     }
+  }
+  [[nodiscard]] std::size_t row_max() const { return row_max_; }
+
+  // Appends rows [k0, k1) to out.
+  void rows(std::size_t k0, std::size_t k1, std::string& out) const {
+    Eigen::MatrixXd st(m_, 4);
+    out.resize((k1 - k0) * row_max_);
+    char* p = out.data();
+    for (std::size_t k = k0; k < k1; ++k) {
+      const double t = g_.time(k);
+      tr_.eval_all(t, st);
+      std::size_t c = 0;
+      auto sep = [&] {
+        if (jsonl_) {
+          std::memcpy(p, keys_[c].data(), keys_[c].size());
+          p += keys_[c].size();
+        } else if (c) {
+          *p++ = ',';
+        }
+        ++c;
+      };
+      auto num = [&](double v) {
+        if (v == 0.0) v = 0.0;  // no "-0"
+        p = std::to_chars(p, p + 32, v).ptr;
+      };
+      auto integer = [&](std::size_t v) { p = std::to_chars(p, p + 24, v).ptr; };
+      if (o_.frames) {
+        sep();
+        integer(k);
+      }
+      if (pvt_) {
+        sep();
+        num(t);
+        sep();
+        num(k ? t - g_.time(k - 1) : 0.0);
+      } else if (o_.time == TimeColumn::kSeconds) {
+        sep();
+        num(t);
+      } else if (!o_.frames) {
+        sep();
+        integer(k);
+      }
+      for (Index a = 0; a < m_; ++a) {
+        const double scale = counts_ ? o_.counts[std::size_t(a)].counts_per_unit : 1.0;
+        for (int d = 0; d < 4; ++d) {
+          if (!want_[d]) continue;
+          sep();
+          double v = scale * st(a, d);
+          if (counts_ && d == 0) {
+            v = std::round(v + o_.counts[std::size_t(a)].offset);
+            if (!(std::abs(v) < kMaxExactCount))
+              throw Error("export: axis '" + names_[std::size_t(a)] + "' reaches " + std::to_string(v) +
+                          " counts, beyond the integers a double holds exactly; check counts_per_unit");
+          }
+          num(v);
+        }
+      }
+      if (jsonl_) *p++ = '}';
+      *p++ = '\n';
+    }
+    out.resize(std::size_t(p - out.data()));
   }
 
  private:
-  const std::function<void(std::string_view)>& sink_;
-  std::vector<char> buf_;
-  std::size_t row_max_;
-  std::size_t n_ = 0;
+  const Trajectory& tr_;
+  const std::vector<std::string>& names_;
+  const ExportOptions& o_;
+  const SampleGrid& g_;
+  Index m_;
+  bool jsonl_ = false, pvt_ = false, counts_ = false;
+  bool want_[4] = {};
+  std::vector<std::string> keys_;
+  std::size_t row_max_ = 0;
 };
-
-constexpr double kMaxExactCount = 9007199254740992.0;  // 2^53: integers beyond are not exact in a double
 
 }  // namespace
 
@@ -230,79 +285,72 @@ ExportResult write_export(const Trajectory& tr, const std::vector<std::string>& 
   o.validate();
   const Index m = tr.axes();
   if (Index(names.size()) != m) throw Error("export: one name per axis is needed");
-  const bool counts = o.units == ExportUnits::kCounts;
-  if (counts && Index(o.counts.size()) != m) throw Error("export: counts need counts_per_unit for every axis");
+  if (o.units == ExportUnits::kCounts && Index(o.counts.size()) != m)
+    throw Error("export: counts need counts_per_unit for every axis");
   const SampleGrid g = sample_grid(tr.t_begin(), tr.t_end(), o);
   const std::vector<std::string> cols = export_columns(names, o);
-  const bool pvt = o.format == ExportFormat::kPvt;
-  const bool jsonl = o.format == ExportFormat::kJsonl;
-  const Columns want = pvt ? Columns{true, true, false, false} : o.columns;
-  const bool want_d[4] = {want.pos, want.vel, want.acc, want.jerk};
-
-  // JSON keys, pre-built: "{\"t\":" and ",\"NAME\":" per column.
-  std::vector<std::string> keys;
-  std::size_t row_max = 64;
-  for (std::size_t c = 0; c < cols.size(); ++c) {
-    keys.push_back(std::string(c ? ",\"" : "{\"") + cols[c] + "\":");
-    row_max += keys.back().size() + 32;
-  }
-  Out out(sink, row_max);
-  if (!jsonl) {
+  const RowFormatter fmt(tr, names, o, g, cols);
+  if (o.format != ExportFormat::kJsonl) {
     std::string header;
     for (std::size_t c = 0; c < cols.size(); ++c) header += (c ? "," : "") + cols[c];
     header += '\n';
-    out.text(header);
+    sink(header);
   }
-
-  Eigen::MatrixXd st(m, 4);
-  double t_prev = g.t_begin;
-  for (std::size_t k = 0; k < g.count; ++k) {
-    const double t = g.time(k);
-    tr.eval_all(t, st);
-    if (out.room() && o.progress) o.progress(k, g.count);
-    std::size_t c = 0;
-    auto sep = [&] {
-      if (jsonl) out.str(keys[c]);
-      else if (c) out.ch(',');
-      ++c;
-    };
-    if (o.frames) {
-      sep();
-      out.integer(k);
+  const std::size_t blocks = (g.count + kBlockRows - 1) / kBlockRows;
+  auto block_range = [&](std::size_t b) { return std::pair{b * kBlockRows, std::min(g.count, (b + 1) * kBlockRows)}; };
+  // Long moves: blocks are formatted by worker threads, a batch ahead of the thread that writes,
+  // and written in order, so the bytes are the same as from one thread. Memory: two batches.
+  const unsigned hw = std::thread::hardware_concurrency();
+  const std::size_t workers = std::clamp<std::size_t>(hw == 0 ? 1 : hw, 1, 4);
+  if (workers == 1 || blocks < 4) {
+    std::string buf;
+    for (std::size_t b = 0; b < blocks; ++b) {
+      const auto [k0, k1] = block_range(b);
+      fmt.rows(k0, k1, buf);
+      sink(buf);
+      if (o.progress) o.progress(k1, g.count);
     }
-    if (pvt) {
-      sep();
-      out.num(t);
-      sep();
-      out.num(k ? t - t_prev : 0.0);
-    } else if (o.time == TimeColumn::kSeconds) {
-      sep();
-      out.num(t);
-    } else if (!o.frames) {
-      sep();
-      out.integer(k);
-    }
-    for (Index a = 0; a < m; ++a) {
-      const double scale = counts ? o.counts[std::size_t(a)].counts_per_unit : 1.0;
-      for (int d = 0; d < 4; ++d) {
-        if (!want_d[d]) continue;
-        sep();
-        double v = scale * st(a, d);
-        if (counts && d == 0) {
-          v = std::round(v + o.counts[std::size_t(a)].offset);
-          if (!(std::abs(v) < kMaxExactCount))
-            throw Error("export: axis '" + names[std::size_t(a)] + "' reaches " + std::to_string(v) +
-                        " counts, beyond the integers a double holds exactly; check counts_per_unit");
-        }
-        out.num(v);
+  } else {
+    std::vector<std::string> bufs[2] = {std::vector<std::string>(workers), std::vector<std::string>(workers)};
+    std::vector<std::exception_ptr> errors(workers);
+    auto format_batch = [&](std::size_t batch, std::vector<std::string>& out) {
+      std::vector<std::thread> threads;
+      for (std::size_t w = 0; w < workers; ++w) {
+        const std::size_t b = batch * workers + w;
+        out[w].clear();
+        if (b >= blocks) break;
+        threads.emplace_back([&, b, w] {
+          try {
+            const auto [k0, k1] = block_range(b);
+            fmt.rows(k0, k1, out[w]);
+          } catch (...) {
+            errors[w] = std::current_exception();
+          }
+        });
       }
+      return threads;
+    };
+    auto join = [&](std::vector<std::thread>& threads) {
+      for (auto& t : threads) t.join();
+      threads.clear();
+      for (auto& e : errors)
+        if (e) std::rethrow_exception(e);
+    };
+    const std::size_t batches = (blocks + workers - 1) / workers;
+    std::vector<std::thread> running = format_batch(0, bufs[0]);
+    join(running);
+    for (std::size_t batch = 0; batch < batches; ++batch) {
+      if (batch + 1 < batches) running = format_batch(batch + 1, bufs[(batch + 1) % 2]);
+      try {
+        for (const auto& s : bufs[batch % 2]) sink(s);
+      } catch (...) {
+        for (auto& t : running) t.join();
+        throw;
+      }
+      if (o.progress) o.progress(std::min(g.count, (batch + 1) * workers * kBlockRows), g.count);
+      join(running);
     }
-    if (jsonl) out.ch('}');
-    out.ch('\n');
-    t_prev = t;
   }
-  out.flush();
-  if (o.progress) o.progress(g.count, g.count);
   return {g.count, g};
 }
 
@@ -328,20 +376,20 @@ std::size_t export_file(const Trajectory& tr, const std::vector<std::string>& na
 
 // ---- reconstruction error ------------------------------------------------------------------------
 
-Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o) {
-  o.validate();
+namespace {
+
+// Reconstruction error over the intervals between samples k0..k1 (k1 - k0 intervals).
+Reconstruction reconstruct_range(const Trajectory& tr, const SampleGrid& g, const std::vector<double>& br, std::size_t k0,
+                                 std::size_t k1) {
   const Index m = tr.axes();
-  const SampleGrid g = sample_grid(tr.t_begin(), tr.t_end(), o);
   Reconstruction r;
   r.linear.assign(std::size_t(m), 0.0);
   r.hermite.assign(std::size_t(m), 0.0);
-  const std::vector<double> br = tr.breaks();
-  std::size_t bi = 0;  // first break > t0 of the current interval
   Eigen::MatrixXd s0(m, 4), s1(m, 4);
   Eigen::VectorXd q(m);
-  tr.eval_all(g.time(0), s0);
-  double t0 = g.time(0);
-  r.t_last = t0;
+  double t0 = g.time(k0);
+  tr.eval_all(t0, s0);
+  std::size_t bi = std::size_t(std::upper_bound(br.begin(), br.end(), t0) - br.begin());  // first break > t0
   auto compare = [&](double t, double t_a, double h) {
     tr.eval(t, 0, q);
     const double s = (t - t_a) / h;
@@ -355,7 +403,7 @@ Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o
     }
     ++r.points;
   };
-  for (std::size_t k = 1; k < g.count; ++k) {
+  for (std::size_t k = k0 + 1; k <= k1; ++k) {
     const double t1 = g.time(k);
     const double h = t1 - t0;
     if (!(h > 0.0)) continue;
@@ -373,6 +421,46 @@ Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o
     t0 = t1;
   }
   r.t_last = t0;
+  return r;
+}
+
+}  // namespace
+
+Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o) {
+  o.validate();
+  const SampleGrid g = sample_grid(tr.t_begin(), tr.t_end(), o);
+  const std::vector<double> br = tr.breaks();
+  const std::size_t intervals = g.count - 1;
+  const unsigned hw = std::thread::hardware_concurrency();
+  const std::size_t workers = intervals < 50000 ? 1 : std::clamp<std::size_t>(hw == 0 ? 1 : hw, 1, 4);
+  std::vector<Reconstruction> parts(workers);
+  std::vector<std::exception_ptr> errors(workers);
+  std::vector<std::thread> threads;
+  for (std::size_t w = 0; w < workers; ++w) {
+    const std::size_t k0 = intervals * w / workers, k1 = intervals * (w + 1) / workers;
+    auto job = [&, w, k0, k1] {
+      try {
+        parts[w] = reconstruct_range(tr, g, br, k0, k1);
+      } catch (...) {
+        errors[w] = std::current_exception();
+      }
+    };
+    if (w + 1 == workers) job();
+    else threads.emplace_back(job);
+  }
+  for (auto& t : threads) t.join();
+  for (auto& e : errors)
+    if (e) std::rethrow_exception(e);
+  // The largest deviation does not depend on how the intervals were split.
+  Reconstruction r = parts[0];
+  for (std::size_t w = 1; w < workers; ++w) {
+    for (std::size_t a = 0; a < r.linear.size(); ++a) {
+      r.linear[a] = std::max(r.linear[a], parts[w].linear[a]);
+      r.hermite[a] = std::max(r.hermite[a], parts[w].hermite[a]);
+    }
+    r.points += parts[w].points;
+  }
+  r.t_last = parts.back().t_last;
   return r;
 }
 
