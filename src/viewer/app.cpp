@@ -37,6 +37,11 @@ App::App(Document& doc, AppOptions options) : doc_(doc), opt_(std::move(options)
   save_path_ = doc_.path();
 }
 
+std::string App::stats() const {
+  return std::to_string(samples_.n) + " samples, " + std::to_string(drawn_segments_) + " path segments drawn, " +
+         std::to_string(drawn_handles_) + " handles drawn";
+}
+
 void App::sync_plan() {
   doc_.replan();
   if (doc_.generation() == seen_generation_) return;
@@ -410,8 +415,10 @@ void apply_theme() {
   s.CellPadding = {4, 2};
   ImVec4* c = s.Colors;
   auto v = [](int r, int g, int b, float a = 1.0f) { return ImVec4(float(r) / 255.0f, float(g) / 255.0f, float(b) / 255.0f, a); };
-  c[ImGuiCol_WindowBg] = v(30, 34, 41);
-  c[ImGuiCol_ChildBg] = v(30, 34, 41);
+  // Panels are not filled: the frame is cleared to the panel colour (kPanelBg) instead, which
+  // saves a full-screen blended fill per frame under a software renderer.
+  c[ImGuiCol_WindowBg] = v(30, 34, 41, 0.0f);
+  c[ImGuiCol_ChildBg] = v(30, 34, 41, 0.0f);
   c[ImGuiCol_PopupBg] = v(36, 40, 48, 0.98f);
   c[ImGuiCol_Text] = v(214, 218, 224);
   c[ImGuiCol_TextDisabled] = v(120, 126, 136);

@@ -43,6 +43,8 @@ class App {
   /// Where the 3D path canvas and the plot grid were drawn in the last frame.
   [[nodiscard]] Rect view_rect() const { return view_rect_; }
   [[nodiscard]] Rect plot_rect() const { return plot_rect_; }
+  /// Counts of the last frame for measurements: samples, path segments after thinning, handles.
+  [[nodiscard]] std::string stats() const;
   /// Frame time shown in the View tab [ms].
   void set_frame_ms(double ms) { frame_ms_ = ms; }
 
@@ -64,9 +66,19 @@ class App {
   void frame_all();
   void default_mapping();
   [[nodiscard]] ImVec2 project(const double c[3]) const;
+  void update_xform();
+  float xf_[2][3] = {{1, 0, 0}, {0, 1, 0}};  // screen x, y per normalised coordinate (this frame)
+  ImVec2 xf_o_{0, 0};
   void coords_of_sample(std::size_t i, double c[3]) const;
   void coords_of_point(const std::vector<double>& q, double t, double c[3]) const;
   void draw_path(ImDrawList* dl);
+  void thin_path();
+  struct Seg {
+    ImVec2 a, b;
+    float v;  // colour value
+  };
+  std::vector<Seg> segs_;       // the thinned path (screen space)
+  std::vector<float> path_key_;  // what segs_ was computed for
   void draw_grid(ImDrawList* dl);
   void draw_handles(ImDrawList* dl, bool hovered_canvas);
   void draw_pose(ImDrawList* dl);
@@ -108,6 +120,12 @@ class App {
   std::vector<float> value_;        // colour value per sample
   std::vector<float> speed_;        // |velocity| of the mapped axes per sample
   std::size_t drawn_segments_ = 0;  // path segments drawn after thinning (last frame)
+  std::size_t drawn_handles_ = 0;   // waypoint handles drawn (last frame)
+  std::vector<std::uint32_t> occupied_;
+  std::vector<ImVec2> handle_proj_;  // projected waypoints
+  std::vector<std::size_t> handle_list_;  // waypoints drawn after screen-space thinning
+  std::vector<float> handle_key_;    // what handle_proj_ and handle_list_ were computed for
+  bool handles_dense_ = false;  // screen cells already holding a handle (per frame)
   float speed_max_ = 0.0f;
   std::uint64_t speed_generation_ = ~std::uint64_t(0);
   int speed_map_[3] = {-9, -9, -9};

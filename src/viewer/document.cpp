@@ -19,6 +19,7 @@ bool Document::load(const std::string& path) {
     p->plan = c2path::plan(p->scene);
     p->report = check_limits(*p->plan.trajectory, p->plan.limits);
     scene_ = std::move(s);
+    ++edits_;
     shown_ = std::move(p);
     ++generation_;
     load_error_.clear();
@@ -33,6 +34,7 @@ bool Document::load(const std::string& path) {
     try {
       Scene s = load_scene_file(path);
       scene_ = std::move(s);
+      ++edits_;
       shown_.reset();
       ++generation_;
       undo_.clear();

@@ -76,6 +76,8 @@ class Document {
   [[nodiscard]] bool can_undo() const noexcept { return !undo_.empty(); }
   [[nodiscard]] bool can_redo() const noexcept { return !redo_.empty(); }
 
+  /// Counts edits (changed(), undo, redo, load): a new value means the scene may differ.
+  [[nodiscard]] std::uint64_t edits() const noexcept { return edits_; }
   /// Edited since loaded or saved.
   [[nodiscard]] bool modified() const noexcept { return modified_; }
   /// Writes the edited scene to `file` (format 1, atomically). Throws c2path::Error.

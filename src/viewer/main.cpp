@@ -47,7 +47,7 @@ struct Args {
   std::string scene, screenshot, tab, colour = "limit";
   int frames = -1, width = 1280, height = 800;
   double time_s = -1.0;
-  bool timing = false, check_pixels = false;
+  bool timing = false, check_pixels = false, edit_each_frame = false;
 };
 
 const char* kUsage =
@@ -62,6 +62,7 @@ const char* kUsage =
     "  --colour limit|speed   what the path is coloured by\n"
     "  --timing               print mean and max frame time at exit\n"
     "  --check-pixels         with --screenshot: fail (exit 3) unless the PNG shows a path and plots\n"
+    "  --edit-each-frame      measurement: move the middle waypoint a little every frame (re-plans each frame)\n"
     "  --help, --version\n";
 
 int usage_error(const std::string& msg) {
@@ -174,6 +175,8 @@ int main(int argc, char** argv) {
       a.colour = v;
     } else if (s == "--timing") {
       a.timing = true;
+    } else if (s == "--edit-each-frame") {
+      a.edit_each_frame = true;
     } else if (s == "--check-pixels") {
       a.check_pixels = true;
     } else if (!s.empty() && s[0] == '-' && s != "-") {
@@ -237,6 +240,13 @@ int main(int argc, char** argv) {
     if (headless || app.busy() || a.timing) glfwPollEvents();
     else glfwWaitEventsTimeout(0.1);
     const auto t0 = Clock::now();
+    if (a.edit_each_frame && doc.has_scene() && !doc.scene().waypoints.empty()) {
+      // As a drag does: one gesture, a new value for one waypoint every frame.
+      auto& w = doc.edit().waypoints[doc.scene().waypoints.size() / 2];
+      if (!w.q.empty()) w.q[0] += (frame % 2 ? 1e-4 : -1e-4);
+      doc.begin_gesture();
+      doc.changed();
+    }
     const double dt = std::chrono::duration<double>(t0 - last).count();
     last = t0;
     ImGui_ImplOpenGL3_NewFrame();
@@ -248,7 +258,7 @@ int main(int argc, char** argv) {
     int fw = 0, fh = 0;
     glfwGetFramebufferSize(win, &fw, &fh);
     glViewport(0, 0, fw, fh);
-    glClearColor(0.07f, 0.08f, 0.1f, 1.0f);
+    glClearColor(col::kPanelBg[0], col::kPanelBg[1], col::kPanelBg[2], 1.0f);
     glClear(GL_COLOR_BUFFER_BIT);
     ImGui_ImplOpenGL3_RenderDrawData(ImGui::GetDrawData());
     if (a.timing) glFinish();
@@ -285,8 +295,9 @@ int main(int argc, char** argv) {
       mx = std::max(mx, frame_ms[i]);
     }
     const double k = double(frame_ms.size() - skip);
-    std::printf("frame time over %zu frames (first %zu excluded, first %.1f ms): mean %.2f ms, max %.2f ms; UI build mean %.2f ms\n",
-                frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k);
+    std::printf("frame time over %zu frames (first %zu excluded, first %.1f ms): mean %.2f ms, max %.2f ms; UI build mean %.2f ms; "
+                "%d vertices, %s\n",
+                frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k, io.MetricsRenderVertices, app.stats().c_str());
   }
   ImGui_ImplOpenGL3_Shutdown();
   ImGui_ImplGlfw_Shutdown();

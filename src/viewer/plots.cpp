@@ -93,18 +93,16 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       line_.push_back({r.min.x + float(j) * w / float(cols),
                        Y(zoom_vals_[(std::size_t(j) * samples_.axes + axis) * 4 + std::size_t(d)])});
   } else {
-    const float* s = samples_.series(d, axis);
-    float prev = s[col_index_[0]];
+    // Each pixel column: a 1 px bar over the min..max of its samples (nothing is lost between
+    // samples of one column), joined by a line through the columns' middles.
     for (int j = 0; j < cols; ++j) {
       const std::size_t i0 = col_index_[std::size_t(j)], i1 = std::max(col_index_[std::size_t(j) + 1], i0 + 1);
       float a = 0, b = 0;
       samples_.tree[d][axis].query(i0, i1, a, b);
       const float x = r.min.x + (float(j) + 0.5f) * w / float(cols);
       const float ya = Y(a), yb = Y(b);
-      if (std::abs(ya - yb) < 1.0f) line_.push_back({x, 0.5f * (ya + yb)});
-      else if (std::abs(Y(prev) - ya) < std::abs(Y(prev) - yb)) { line_.push_back({x, ya}); line_.push_back({x, yb}); }
-      else { line_.push_back({x, yb}); line_.push_back({x, ya}); }
-      prev = s[i1 - 1];
+      if (ya - yb > 1.5f) dl->AddRectFilled({x - 0.5f, yb}, {x + 0.5f, ya}, c);
+      line_.push_back({x, 0.5f * (ya + yb)});
     }
   }
   if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 1.6f);

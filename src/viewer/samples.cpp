@@ -59,9 +59,10 @@ void Samples::build(const Planned& planned, std::size_t budget) {
   axes = std::size_t(tr.axes());
   const std::vector<double> br = tr.breaks();
   const std::size_t pieces = br.size() > 1 ? br.size() - 1 : 1;
-  std::size_t k = std::max<std::size_t>(2, budget / pieces);
-  k = std::max(k, (4096 + pieces - 1) / pieces);
-  k = std::min<std::size_t>(k, 2048);
+  // Samples per piece: many for short moves (smooth curves when zoomed in), few for long ones,
+  // at most about `budget` in all. Zoomed-in plots evaluate the trajectory per pixel instead.
+  std::size_t k = std::clamp<std::size_t>(16384 / pieces, 2, 2048);
+  k = std::max<std::size_t>(2, std::min(k, budget / pieces));
 
   t.clear();
   t.reserve(pieces * (k + 1));

@@ -36,7 +36,8 @@ struct Samples {
   MinMaxTree tree[4][64];      ///< per derivative and axis (kMaxAxes = 64)
   float lo[4][64], hi[4][64];  ///< whole-move range per derivative and axis
 
-  /// Samples `planned`; about `budget` samples in all (at least 2 per piece, at least 4096 in all).
+  /// Samples `planned`: about 16384 samples in all for short moves, 3 per piece (at least) for
+  /// long ones, never much more than `budget`.
   void build(const Planned& planned, std::size_t budget = 400000);
   [[nodiscard]] const float* series(int deriv, std::size_t axis) const { return q[deriv].data() + axis * n; }
 };

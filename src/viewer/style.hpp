@@ -14,6 +14,7 @@ constexpr ImU32 rgba(int r, int g, int b, int a = 255) {
 }
 
 namespace col {
+constexpr float kPanelBg[3] = {30 / 255.0f, 34 / 255.0f, 41 / 255.0f};  // the clear colour behind all panels
 constexpr ImU32 kCanvas = rgba(21, 24, 30);        // 3D view and plot backgrounds
 constexpr ImU32 kCanvasAlt = rgba(26, 30, 37);     // alternate plot rows
 constexpr ImU32 kGrid = rgba(46, 52, 62);

@@ -81,13 +81,24 @@ void App::coords_of_point(const std::vector<double>& q, double t, double c[3]) c
   }
 }
 
-ImVec2 App::project(const double c[3]) const {
+void App::update_xform() {
+  // Orthographic view: yaw about Z, then pitch about the screen's horizontal axis.
   const float yaw = is_3d() ? yaw_ : 0.0f, pitch = is_3d() ? pitch_ : kPi / 2;
   const float cy = std::cos(yaw), sy = std::sin(yaw), cp = std::cos(pitch), sp = std::sin(pitch);
+  // screen x = (x1 + pan.x) * scale, screen up = (cp z + sp y1 + pan.y) * scale,
+  // x1 = cy x - sy y, y1 = sy x + cy y.
+  xf_[0][0] = cy * scale_;
+  xf_[0][1] = -sy * scale_;
+  xf_[0][2] = 0.0f;
+  xf_[1][0] = -sp * sy * scale_;
+  xf_[1][1] = -sp * cy * scale_;
+  xf_[1][2] = -cp * scale_;
+  xf_o_ = {origin_.x + pan_.x * scale_, origin_.y - pan_.y * scale_};
+}
+
+ImVec2 App::project(const double c[3]) const {
   const float x = float(c[0]), y = float(c[1]), z = float(c[2]);
-  const float x1 = cy * x - sy * y, y1 = sy * x + cy * y;
-  const float up = cp * z + sp * y1;
-  return {origin_.x + (x1 + pan_.x) * scale_, origin_.y - (up + pan_.y) * scale_};
+  return {xf_o_.x + xf_[0][0] * x + xf_[0][1] * y + xf_[0][2] * z, xf_o_.y + xf_[1][0] * x + xf_[1][1] * y + xf_[1][2] * z};
 }
 
 void App::update_speed() {
@@ -140,12 +151,65 @@ void App::draw_grid(ImDrawList* dl) {
 void App::draw_path(ImDrawList* dl) {
   const std::size_t n = samples_.n;
   if (n < 2) return;
+  // The thinned path depends only on the plan, the mapping, the camera and the colouring: when
+  // none changed since the last frame, the segments are drawn again as they are.
+  std::vector<float> key = {float(seen_generation_), float(map_[0]), float(map_[1]), float(map_[2]), xf_[0][0], xf_[0][1],
+                            xf_[0][2], xf_[1][0], xf_[1][1], xf_[1][2], xf_o_.x, xf_o_.y, float(colour_),
+                            float(centre_[0]), float(centre_[1]), float(centre_[2]), float(half_[0]), float(half_[1]), float(half_[2])};
+  if (key != path_key_) {
+    path_key_ = key;
+    thin_path();
+  }
+  // Draw runs of one colour as polylines (joined), beyond-limit runs thicker.
+  const auto& segs = segs_;
+  std::size_t i = 0;
+  while (i < segs.size()) {
+    const ImU32 colr = ramp(segs[i].v);
+    const bool beyond = segs[i].v > 1.0f;
+    dl->PathLineTo(segs[i].a);
+    std::size_t j = i;
+    while (j < segs.size() && ramp(segs[j].v) == colr && (j == i || dist2(segs[j].a, segs[j - 1].b) < 0.01f)) {
+      dl->PathLineTo(segs[j].b);
+      ++j;
+    }
+    dl->PathStroke(colr, 0, beyond ? 4.0f : 2.5f);
+    i = j;
+  }
+}
+
+void App::thin_path() {
+  const std::size_t n = samples_.n;
   proj_.resize(n);
   value_.resize(n);
-  double c[3];
+  // Screen position as an affine function of the raw values of the mapped quantities.
+  const float* src[3] = {nullptr, nullptr, nullptr};
+  std::vector<float> tf;
+  float fx[3] = {0, 0, 0}, fy[3] = {0, 0, 0};
+  float ox = xf_o_.x, oy = xf_o_.y;
+  for (int k = 0; k < 3; ++k) {
+    if (map_[k] == kMapNone) continue;
+    const float inv = float(1.0 / half_[k]);
+    fx[k] = xf_[0][k] * inv;
+    fy[k] = xf_[1][k] * inv;
+    if (map_[k] >= 0) src[k] = samples_.series(0, std::size_t(map_[k]));
+    else {
+      tf.resize(n);
+      for (std::size_t i = 0; i < n; ++i) tf[i] = float(samples_.t[i]);
+      src[k] = tf.data();
+    }
+    ox -= fx[k] * float(centre_[k]);
+    oy -= fy[k] * float(centre_[k]);
+  }
+  for (int k = 0; k < 3; ++k)
+    if (!src[k]) { fx[k] = fy[k] = 0.0f; }
   for (std::size_t i = 0; i < n; ++i) {
-    coords_of_sample(i, c);
-    proj_[i] = project(c);
+    float x = ox, y = oy;
+    for (int k = 0; k < 3; ++k)
+      if (src[k]) {
+        x += fx[k] * src[k][i];
+        y += fy[k] * src[k][i];
+      }
+    proj_[i] = {x, y};
   }
   if (colour_ == ColourBy::kSpeed) {
     update_speed();
@@ -160,8 +224,7 @@ void App::draw_path(ImDrawList* dl) {
   // within kTol pixels of the line from the anchor to the run's end (a cone of admissible
   // directions, narrowed by each point; O(n)). A run also ends where the colour changes.
   constexpr float kTol = 0.6f, kTol2 = kTol * kTol;
-  struct Seg { ImVec2 a, b; float v; };
-  static std::vector<Seg> segs;
+  auto& segs = segs_;
   segs.clear();
   std::size_t anchor = 0, last = 0;
   float run_max = value_[0];
@@ -210,21 +273,6 @@ void App::draw_path(ImDrawList* dl) {
   }
   if (last != anchor) segs.push_back({proj_[anchor], proj_[last], run_max});
   drawn_segments_ = segs.size();
-
-  // Draw runs of one colour as polylines (joined), beyond-limit runs thicker.
-  std::size_t i = 0;
-  while (i < segs.size()) {
-    const ImU32 colr = ramp(segs[i].v);
-    const bool beyond = segs[i].v > 1.0f;
-    dl->PathLineTo(segs[i].a);
-    std::size_t j = i;
-    while (j < segs.size() && ramp(segs[j].v) == colr && (j == i || dist2(segs[j].a, segs[j - 1].b) < 0.01f)) {
-      dl->PathLineTo(segs[j].b);
-      ++j;
-    }
-    dl->PathStroke(colr, 0, beyond ? 4.0f : 2.5f);
-    i = j;
-  }
 }
 
 void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
@@ -233,26 +281,75 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
   const std::size_t n = s.waypoints.size();
   const ImVec2 mouse = ImGui::GetMousePos();
   const bool times_ok = p && std::size_t(p->plan.waypoint_times.size()) == n;
+  const Rect& vr = view_rect_;
+  auto in_view = [&](ImVec2 pt) { return pt.x >= vr.min.x && pt.x < vr.max.x && pt.y >= vr.min.y && pt.y < vr.max.y; };
+
+  // Project every waypoint and choose which to draw: cached while the scene, the mapping and
+  // the camera stay the same. Screen-space thinning: a handle is drawn only where no other
+  // handle is within a cell's reach; crowded views (many waypoints in view) get small dots.
+  std::vector<float> key(path_key_.begin() + 1, path_key_.end());
+  key.push_back(float(doc_.edits()));
+  key.push_back(float(n));
+  key.push_back(vr.min.x);
+  key.push_back(vr.min.y);
+  key.push_back(vr.max.x);
+  key.push_back(vr.max.y);
+  if (key != handle_key_) {
+    handle_key_ = key;
+    handle_proj_.resize(n);
+    double c[3];
+    std::size_t visible = 0;
+    for (std::size_t k = 0; k < n; ++k) {
+      const Waypoint& w = s.waypoints[k];
+      const double t = times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0);
+      coords_of_point(w.q, t, c);
+      handle_proj_[k] = project(c);
+      if (in_view(handle_proj_[k])) ++visible;
+    }
+    handles_dense_ = visible > 300;
+    const float cell = handles_dense_ ? 8.0f : 22.0f;
+    const int gw = std::max(1, int((vr.max.x - vr.min.x) / cell) + 1), gh = std::max(1, int((vr.max.y - vr.min.y) / cell) + 1);
+    occupied_.assign(std::size_t(gw) * std::size_t(gh), 0u);
+    auto mark = [&](ImVec2 pt) {
+      const int cx = int((pt.x - vr.min.x) / cell), cy = int((pt.y - vr.min.y) / cell);
+      for (int y = std::max(0, cy - 1); y <= std::min(gh - 1, cy + 1); ++y)
+        for (int x = std::max(0, cx - 1); x <= std::min(gw - 1, cx + 1); ++x) occupied_[std::size_t(y * gw + x)] = 1u;
+    };
+    handle_list_.clear();
+    if (n > 0 && in_view(handle_proj_[0])) mark(handle_proj_[0]);
+    if (n > 1 && in_view(handle_proj_[n - 1])) mark(handle_proj_[n - 1]);
+    for (std::size_t k = 1; k + 1 < n; ++k) {
+      const ImVec2 pt = handle_proj_[k];
+      if (!in_view(pt)) continue;
+      const int cx = int((pt.x - vr.min.x) / cell), cy = int((pt.y - vr.min.y) / cell);
+      if (occupied_[std::size_t(cy * gw + cx)]) continue;
+      mark(pt);
+      handle_list_.push_back(k);
+    }
+  }
+
+  // The waypoint under the mouse (any waypoint, drawn or not).
   float best = 9.0f * 9.0f;
   int hover = -1;
-  ImVec2 last_drawn{-1e9f, -1e9f};
-  double c[3];
-  for (std::size_t k = 0; k < n; ++k) {
-    const Waypoint& w = s.waypoints[k];
-    const double t = times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0);
-    coords_of_point(w.q, t, c);
-    const ImVec2 pt = project(c);
-    const float d2m = dist2(pt, mouse);
-    if (hovered_canvas && d2m < best) {
-      best = d2m;
-      hover = int(k);
+  if (hovered_canvas) {
+    for (std::size_t k = 0; k < n; ++k) {
+      const float d2m = dist2(handle_proj_[k], mouse);
+      if (d2m < best) {
+        best = d2m;
+        hover = int(k);
+      }
     }
-    const bool special = int(k) == selected_ || int(k) == hover_wp_ || int(k) == drag_wp_ || k == 0 || k + 1 == n;
-    if (!special && dist2(pt, last_drawn) < 18.0f * 18.0f) continue;
-    if (pt.x < view_rect_.min.x - 20 || pt.x > view_rect_.max.x + 20 || pt.y < view_rect_.min.y - 20 ||
-        pt.y > view_rect_.max.y + 20)
-      continue;
-    last_drawn = pt;
+  }
+  if (drag_wp_ < 0) hover_wp_ = hover;
+  drawn_handles_ = 0;
+  auto draw_one = [&](std::size_t k, bool numbered) {
+    const ImVec2 pt = handle_proj_[k];
+    const Waypoint& w = s.waypoints[k];
+    ++drawn_handles_;
+    if (!numbered) {
+      dl->AddCircleFilled(pt, 2.5f, col::kHandle, 8);
+      return;
+    }
     const bool sel = int(k) == selected_ || int(k) == drag_wp_;
     const bool hot = int(k) == hover_wp_;
     const float r = sel || hot ? 9.0f : 7.5f;
@@ -268,9 +365,18 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
     const std::string label = std::to_string(k + 1);
     const ImVec2 ts = ImGui::CalcTextSize(label.c_str());
     if (ts.x <= 2.0f * r + 1.0f) dl->AddText({pt.x - ts.x * 0.5f, pt.y - ts.y * 0.5f}, col::kHandleRim, label.c_str());
-    else dl->AddText({pt.x + r + 2.0f, pt.y - ts.y * 0.5f}, col::kText, label.c_str());
-  }
-  if (drag_wp_ < 0) hover_wp_ = hover;
+    else {
+      dl->AddRectFilled({pt.x + r + 1.0f, pt.y - ts.y * 0.5f}, {pt.x + r + 3.0f + ts.x, pt.y + ts.y * 0.5f}, rgba(16, 18, 23, 170), 2.0f);
+      dl->AddText({pt.x + r + 2.0f, pt.y - ts.y * 0.5f}, col::kText, label.c_str());
+    }
+  };
+  auto special = [&](std::size_t k) {
+    return int(k) == selected_ || int(k) == hover_wp_ || int(k) == drag_wp_ || k == 0 || k + 1 == n;
+  };
+  for (std::size_t k : handle_list_)
+    if (!special(k)) draw_one(k, !handles_dense_);
+  for (int k : {0, int(n) - 1, selected_, drag_wp_, hover_wp_})
+    if (k >= 0 && std::size_t(k) < n && in_view(handle_proj_[std::size_t(k)])) draw_one(std::size_t(k), true);
 }
 
 void App::draw_pose(ImDrawList* dl) {
@@ -400,6 +506,7 @@ void App::view_panel(const ImVec2& pos, const ImVec2& size) {
   // At zoom 1 the box [-1, 1]^3 fits whatever the orientation (its bounding sphere fits).
   auto fit_scale = [&] { return zoom_ * (is_3d() ? 0.5f * std::min(avail.x, avail.y * 1.1f) / 1.78f : 0.5f * std::min(avail.x, avail.y) / 1.22f); };
   scale_ = fit_scale();
+  update_xform();
 
   ImGuiIO& io = ImGui::GetIO();
   // Interaction before drawing, so the frame shows its result.
@@ -457,6 +564,7 @@ void App::view_panel(const ImVec2& pos, const ImVec2& size) {
   if (hovered && ImGui::IsMouseDoubleClicked(0) && hover_wp_ < 0) frame_all();
   if (hovered && ImGui::IsMouseClicked(0) && hover_wp_ < 0 && drag_wp_ < 0) { /* orbit, keep selection */ }
 
+  update_xform();
   draw_grid(dl);
   draw_path(dl);
   draw_handles(dl, hovered && drag_wp_ < 0);
