@@ -348,7 +348,13 @@ TEST_CASE("spline: not-a-knot and clamped agree with SciPy 1.10 CubicSpline", "[
       const auto& e = c.evals[k];
       for (Index a = 0; a < c.axes; ++a) {
         INFO("u = " << e.u << ", axis " << a << ", derivative " << e.deriv);
-        const double tol = 1e-12 * scale[{a, e.deriv}];
+        // 1e-12 relative to the size of the quantity in the case; third derivatives 5e-12: on short
+        // pieces (h = 0.02 in cos_zero_slopes) q''' = 6 (s_i + s_{i+1} - 2 m_i) / h^2 amplifies the
+        // rounding of the slopes, and both SciPy and c2path are about 1e-12 (relative) away from the
+        // exact spline there (checked once against the spline solved in exact rational arithmetic
+        // with Python's fractions: SciPy 9.8e-13, c2path 1.2e-12); everywhere else both are within
+        // a few 1e-14.
+        const double tol = (e.deriv == 3 ? 5e-12 : 1e-12) * scale[{a, e.deriv}];
         C2PATH_CHECK_NEAR("ours vs SciPy", k, s.eval(e.u, a, e.deriv), e.values[std::size_t(a)], 0.0, tol);
         ++compared;
       }

@@ -3,12 +3,51 @@
 /// Multi-axis C2 cubic interpolating splines, fitted by one banded O(n) solve for all axes.
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <cstddef>
+#include <limits>
+#include <new>
+#include <type_traits>
+#include <utility>
 #include <vector>
 
 namespace c2path {
 
 using Index = Eigen::Index;
+
+namespace detail {
+
+/// Storage for large numeric arrays (spline coefficients): blocks of 4 MiB and more are aligned to
+/// 2 MiB and, on Linux, advised to use transparent huge pages, which cuts the page faults of a
+/// fresh 100 MB coefficient array about 500-fold; elements are default-initialised (not zeroed)
+/// because the fit writes every one of them.
+void* bulk_allocate(std::size_t bytes);
+void bulk_deallocate(void* p, std::size_t bytes) noexcept;
+
+template <class T>
+struct BulkAllocator {
+  using value_type = T;
+  BulkAllocator() = default;
+  template <class U>
+  BulkAllocator(const BulkAllocator<U>&) noexcept {}  // NOLINT(google-explicit-constructor)
+  T* allocate(std::size_t n) { return static_cast<T*>(bulk_allocate(n * sizeof(T))); }
+  void deallocate(T* p, std::size_t n) noexcept { bulk_deallocate(p, n * sizeof(T)); }
+  template <class U>
+  void construct(U* p) noexcept(std::is_nothrow_default_constructible_v<U>) {
+    ::new (static_cast<void*>(p)) U;
+  }
+  template <class U, class... Args>
+  void construct(U* p, Args&&... args) {
+    ::new (static_cast<void*>(p)) U(std::forward<Args>(args)...);
+  }
+  friend bool operator==(const BulkAllocator&, const BulkAllocator&) noexcept { return true; }
+  friend bool operator!=(const BulkAllocator&, const BulkAllocator&) noexcept { return false; }
+};
+
+/// A vector of doubles in bulk storage (see BulkAllocator).
+using BulkVector = std::vector<double, BulkAllocator<double>>;
+
+}  // namespace detail
 
 /// End condition of an interpolating cubic spline.
 enum class EndCondition {
@@ -98,20 +137,61 @@ class CubicSpline {
   /// amortised. Cheap to copy; holds a pointer to the spline, which must outlive it.
   class Cursor {
    public:
-    explicit Cursor(const CubicSpline& spline) : spline_(&spline) {}
-    /// Piece for u, walking from the last one.
-    Index piece(double u);
+    explicit Cursor(const CubicSpline& spline) : spline_(&spline) { set(0); }
+    /// Piece for u (the same as find_piece(u)), walking from the last one.
+    Index piece(double u) {
+      // The common case of sorted queries: u is still on the last piece, [lo_, hi_).
+      if (u >= lo_ && u < hi_) [[likely]]
+        return last_;
+      set(spline_->find_piece(u, last_));
+      return last_;
+    }
     double eval(double u, Index axis, int deriv = 0) { return spline_->eval_piece(piece(u), u, axis, deriv); }
 
    private:
+    /// Makes `piece` the current piece; its bounds extend to -inf / +inf at the ends.
+    void set(Index piece) {
+      const Index n = spline_->pieces();
+      last_ = piece;
+      if (n < 1) {  // empty spline: never on a piece
+        lo_ = std::numeric_limits<double>::infinity();
+        hi_ = -lo_;
+        return;
+      }
+      lo_ = piece == 0 ? -std::numeric_limits<double>::infinity() : spline_->breaks_[std::size_t(piece)];
+      hi_ = piece + 1 == n ? std::numeric_limits<double>::infinity() : spline_->breaks_[std::size_t(piece) + 1];
+    }
     const CubicSpline* spline_;
     Index last_ = 0;
+    double lo_ = 0.0, hi_ = 0.0;  // u in [lo_, hi_) evaluates on piece last_
   };
 
  private:
+  /// find_piece(u), walking a few pieces from `hint` before it falls back to binary search.
+  Index find_piece(double u, Index hint) const {
+    const Index n = pieces();
+    Index i = hint;
+    for (int step = 0; step < 8; ++step) {
+      if (i + 1 < n && u >= breaks_[std::size_t(i) + 1])
+        ++i;
+      else if (i > 0 && u < breaks_[std::size_t(i)])
+        --i;
+      else if (u == u)
+        return i;
+      else
+        break;  // NaN
+    }
+    return find_piece(u);
+  }
+
+  struct Fitted {};
+  /// From a fit: the parts are known to be consistent (no checks).
+  CubicSpline(Fitted, std::vector<double> breaks, Index axes, detail::BulkVector coeffs, std::vector<double> end_values)
+      : breaks_(std::move(breaks)), axes_(axes), coeffs_(std::move(coeffs)), end_values_(std::move(end_values)) {}
+
   std::vector<double> breaks_;
   Index axes_ = 0;
-  std::vector<double> coeffs_;
+  detail::BulkVector coeffs_;
   std::vector<double> end_values_;
 };
 
@@ -124,6 +204,19 @@ class CubicSpline {
     case 3: return 6.0 * c[3];
     default: return 0.0;
   }
+}
+
+inline Index CubicSpline::find_piece(double u) const {
+  const Index n = pieces();
+  if (n <= 1 || !(u >= breaks_[1])) return 0;  // also NaN -> 0; u_1 itself belongs to piece 1
+  if (u >= breaks_[std::size_t(n - 1)]) return n - 1;
+  const auto it = std::upper_bound(breaks_.begin() + 1, breaks_.end() - 1, u);
+  return Index(it - breaks_.begin()) - 1;
+}
+
+inline double CubicSpline::eval_piece(Index piece, double u, Index axis, int deriv) const {
+  if (deriv == 0 && u == breaks_.back() && piece + 1 == pieces()) return end_values_[std::size_t(axis)];
+  return cubic_eval(coeffs(piece, axis), u - breaks_[std::size_t(piece)], deriv);
 }
 
 }  // namespace c2path

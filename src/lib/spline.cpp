@@ -2,7 +2,15 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdint>
+#include <cstdlib>
+#include <limits>
+#include <new>
 #include <string>
+
+#ifdef __linux__
+#include <sys/mman.h>
+#endif
 
 #include "c2path/error.hpp"
 #include "detail/poly.hpp"
@@ -18,8 +26,215 @@ void SplineOptions::validate(Index axes) const {
     throw Error("clamped spline: end slopes must be finite numbers");
 }
 
+namespace detail {
+
+namespace {
+constexpr std::size_t kHugePage = std::size_t(2) << 20;  // 2 MiB
+constexpr std::size_t kBulkMin = std::size_t(4) << 20;   // bulk storage from 4 MiB on
+}  // namespace
+
+void* bulk_allocate(std::size_t bytes) {
+  if (bytes < kBulkMin) return ::operator new(bytes);
+  const std::size_t rounded = (bytes + kHugePage - 1) / kHugePage * kHugePage;
+  void* p = std::aligned_alloc(kHugePage, rounded);
+  if (p == nullptr) throw std::bad_alloc();
+#ifdef __linux__
+  (void)madvise(p, rounded, MADV_HUGEPAGE);  // advice only: without transparent huge pages, nothing changes
+#endif
+  return p;
+}
+
+void bulk_deallocate(void* p, std::size_t bytes) noexcept {
+  if (bytes < kBulkMin)
+    ::operator delete(p);
+  else
+    std::free(p);
+}
+
+}  // namespace detail
+
+namespace {
+
+/// A copy of u as the breakpoint vector; a large fresh block is advised to use huge pages before
+/// it is first written (fewer page faults), as detail::bulk_allocate does.
+std::vector<double> copy_breaks(const double* u, Index np) {
+  std::vector<double> b;
+  b.reserve(std::size_t(np));
+#ifdef __linux__
+  const std::size_t bytes = std::size_t(np) * sizeof(double);
+  if (bytes >= (std::size_t(8) << 20)) {
+    const auto page = std::uintptr_t(4096);
+    const auto first = (reinterpret_cast<std::uintptr_t>(b.data()) + page - 1) / page * page;
+    const auto last = (reinterpret_cast<std::uintptr_t>(b.data()) + bytes) / page * page;
+    if (last > first) (void)madvise(reinterpret_cast<void*>(first), last - first, MADV_HUGEPAGE);
+  }
+#endif
+  b.assign(u, u + np);
+  return b;
+}
+
+/// The checks of the parameters, in the order of their messages.
+void check_parameters(const Eigen::Ref<const Eigen::VectorXd>& u) {
+  const Index np = u.size();
+  // Fast path: strictly increasing between finite ends implies finite everywhere.
+  bool ok = std::isfinite(u[0]) && std::isfinite(u[np - 1]);
+  for (Index i = 0; i + 1 < np; ++i) ok &= u[i + 1] > u[i];
+  if (ok) return;
+  for (Index i = 0; i < np; ++i)
+    if (!std::isfinite(u[i])) throw Error("spline: parameter " + std::to_string(i) + " is not finite");
+  for (Index i = 0; i + 1 < np; ++i)
+    if (!(u[i + 1] > u[i]))
+      throw Error("spline: parameters must increase strictly (points " + std::to_string(i) + " and " +
+                  std::to_string(i + 1) + ")");
+}
+
+[[noreturn]] void throw_nonfinite(const Eigen::Ref<const Eigen::MatrixXd>& q) {
+  if (!q.allFinite()) throw Error("spline: point values must be finite");
+  throw Error("spline: the parameters or point values are too far apart (their differences overflow)");
+}
+
+/// Not-a-knot, natural and clamped splines: one tridiagonal system in the slopes s_0..s_n for all
+/// axes at once, solved by the Thomas algorithm while the coefficients are written.
+///   row 0:          b_0 s_0 + c_0 s_1 = r_0                  (end condition)
+///   row i (0<i<n):  h_i s_{i-1} + 2 (h_{i-1} + h_i) s_i + h_{i-1} s_{i+1} = 3 (h_i m_{i-1} + h_{i-1} m_i)
+///   row n:          a_n s_{n-1} + b_n s_n = r_n              (end condition)
+/// with h_i = u_{i+1} - u_i and m_i = (q_{i+1} - q_i) / h_i; the end rows are SciPy's. The interior
+/// rows are diagonally dominant, and so is every row after the first elimination step (the first
+/// multiplier is 1 for not-a-knot), so no pivoting is needed. Returns false on a non-finite slope or
+/// step (overflow, or non-finite data). M > 0 is the number of axes fixed at compile time, 0 = m.
+template <int M>
+bool banded_fit(const double* u, const double* q, Index ldq, Index n, Index m_dyn, const SplineOptions& o, double* cp,
+                double* rp, double* coeffs) {
+  const Index m = M > 0 ? Index(M) : m_dyn;
+  double fixed[M > 0 ? 4 * M : 1];
+  std::vector<double> heap;
+  double* w = fixed;
+  if constexpr (M == 0) {
+    heap.resize(std::size_t(4 * m));
+    w = heap.data();
+  }
+  double* mprev = w;       // m_{i-1} per axis
+  double* snext = w + m;   // s_{i+1} per axis
+  double* r0 = w + 2 * m;  // end-row right-hand sides
+  auto Q = [&](Index i, Index a) { return q[i + a * ldq]; };
+  const EndCondition e = o.ends;
+  const bool nak = e == EndCondition::kNotAKnot;
+  double check = 0.0;  // becomes NaN when a step or slope is not finite
+
+  // Row 0.
+  const double h0 = u[1] - u[0];
+  const double inv_h0 = 1.0 / h0;
+  check += h0 * 0.0;
+  for (Index a = 0; a < m; ++a) {
+    mprev[a] = (Q(1, a) - Q(0, a)) * inv_h0;
+    check += mprev[a] * 0.0;
+  }
+  double b0 = 1.0, c0 = 0.0;
+  if (nak && n >= 3) {
+    const double h1 = u[2] - u[1];
+    const double d0 = h0 + h1;
+    b0 = h1;
+    c0 = d0;
+    for (Index a = 0; a < m; ++a) {
+      const double m1 = (Q(2, a) - Q(1, a)) / h1;
+      r0[a] = ((h0 + 2.0 * d0) * h1 * mprev[a] + h0 * h0 * m1) / d0;
+    }
+  } else if (nak && n == 2) {  // the parabola: s_0 + s_1 = 2 m_0
+    c0 = 1.0;
+    for (Index a = 0; a < m; ++a) r0[a] = 2.0 * mprev[a];
+  } else if (nak) {  // the line
+    for (Index a = 0; a < m; ++a) r0[a] = mprev[a];
+  } else if (e == EndCondition::kNatural) {  // q''(u_0) = 0: 2 s_0 + s_1 = 3 m_0
+    b0 = 2.0;
+    c0 = 1.0;
+    for (Index a = 0; a < m; ++a) r0[a] = 3.0 * mprev[a];
+  } else {  // clamped
+    for (Index a = 0; a < m; ++a) r0[a] = o.start_slope[a];
+  }
+  // The previous row's cp and rp stay in registers (rp_prev): the elimination is a chain of
+  // dependent operations per row, and a round trip through memory would lengthen it.
+  double* rp_prev = snext;  // scratch until the back substitution
+  double cp_prev = c0 / b0;
+  cp[0] = cp_prev;
+  for (Index a = 0; a < m; ++a) rp[a] = rp_prev[a] = r0[a] / b0;
+
+  // Interior rows, eliminated as they are formed.
+  double h_prev = h0;
+  for (Index i = 1; i < n; ++i) {
+    const double h = u[i + 1] - u[i];
+    const double inv_h = 1.0 / h;
+    const double den = 2.0 * (h_prev + h) - h * cp_prev;
+    const double inv = 1.0 / den;
+    cp_prev = h_prev / den;  // not h_prev * inv: one rounding less on the dependency chain
+    cp[i] = cp_prev;
+    double* rp_i = rp + i * m;
+    double row_check = h;
+    for (Index a = 0; a < m; ++a) {
+      const double mc = (Q(i + 1, a) - Q(i, a)) * inv_h;
+      row_check += mc;
+      rp_prev[a] = (3.0 * (h * mprev[a] + h_prev * mc) - h * rp_prev[a]) * inv;
+      rp_i[a] = rp_prev[a];
+      mprev[a] = mc;
+    }
+    check += row_check * 0.0;
+    h_prev = h;
+  }
+  if (!std::isfinite(check)) return false;
+
+  // Row n and s_n; mprev holds m_{n-1}.
+  double an = 0.0, bn = 1.0;
+  double* rn = r0;
+  if (nak && n >= 3) {
+    const double h1 = u[n] - u[n - 1], h2 = u[n - 1] - u[n - 2];  // h_{n-1}, h_{n-2}
+    const double dn = h1 + h2;
+    an = dn;
+    bn = h2;
+    for (Index a = 0; a < m; ++a) {
+      const double m2 = (Q(n - 1, a) - Q(n - 2, a)) / h2;
+      rn[a] = (h1 * h1 * m2 + (2.0 * dn + h1) * h2 * mprev[a]) / dn;
+    }
+  } else if (nak && n == 2) {  // s_1 + s_2 = 2 m_1
+    an = 1.0;
+    for (Index a = 0; a < m; ++a) rn[a] = 2.0 * mprev[a];
+  } else if (nak) {
+    for (Index a = 0; a < m; ++a) rn[a] = mprev[a];
+  } else if (e == EndCondition::kNatural) {  // s_{n-1} + 2 s_n = 3 m_{n-1}
+    an = 1.0;
+    bn = 2.0;
+    for (Index a = 0; a < m; ++a) rn[a] = 3.0 * mprev[a];
+  } else {
+    for (Index a = 0; a < m; ++a) rn[a] = o.end_slope[a];
+  }
+  const double den_n = bn - an * cp[n - 1];
+  if (!(den_n != 0.0)) return false;
+  for (Index a = 0; a < m; ++a) snext[a] = (rn[a] - an * rp[(n - 1) * m + a]) / den_n;
+
+  // Back substitution, writing the Hermite form of each piece (as SciPy's CubicSpline does).
+  for (Index i = n; i-- > 0;) {
+    const double h = u[i + 1] - u[i];
+    const double inv_h = 1.0 / h;
+    const double cpi = cp[i];
+    const double* rp_i = rp + i * m;
+    double* c = coeffs + i * m * 4;
+    for (Index a = 0; a < m; ++a, c += 4) {
+      const double s = rp_i[a] - cpi * snext[a];
+      const double q0 = Q(i, a);
+      const double mi = (Q(i + 1, a) - q0) * inv_h;
+      const double t = (s + snext[a] - 2.0 * mi) * inv_h;
+      c[0] = q0;
+      c[1] = s;
+      c[2] = (mi - s) * inv_h - t;
+      c[3] = t * inv_h;
+      snext[a] = s;
+    }
+  }
+  return true;
+}
+
+}  // namespace
+
 CubicSpline::CubicSpline(std::vector<double> breaks, Index axes, std::vector<double> coeffs, std::vector<double> end_values)
-    : breaks_(std::move(breaks)), axes_(axes), coeffs_(std::move(coeffs)), end_values_(std::move(end_values)) {
+    : breaks_(std::move(breaks)), axes_(axes), coeffs_(coeffs.begin(), coeffs.end()), end_values_(std::move(end_values)) {
   if (breaks_.size() < 2 || axes_ < 1 || coeffs_.size() != (breaks_.size() - 1) * std::size_t(axes_) * 4 ||
       (!end_values_.empty() && end_values_.size() != std::size_t(axes_)))
     throw Error("CubicSpline: breakpoints and coefficients do not match");
@@ -41,19 +256,35 @@ CubicSpline CubicSpline::fit(const Eigen::Ref<const Eigen::VectorXd>& u,
     throw Error("spline: " + std::to_string(np) + " parameters but " + std::to_string(q.rows()) + " points");
   if (m < 1) throw Error("spline: at least one axis is needed");
   options.validate(m);
-  for (Index i = 0; i < np; ++i)
-    if (!std::isfinite(u[i])) throw Error("spline: parameter " + std::to_string(i) + " is not finite");
-  for (Index i = 0; i + 1 < np; ++i)
-    if (!(u[i + 1] > u[i]))
-      throw Error("spline: parameters must increase strictly (points " + std::to_string(i) + " and " +
-                  std::to_string(i + 1) + ")");
-  if (!q.allFinite()) throw Error("spline: point values must be finite");
+  check_parameters(u);
   const Index n = np - 1;  // pieces
-  const bool periodic = options.ends == EndCondition::kPeriodic;
-  if (periodic)
-    for (Index a = 0; a < m; ++a)
-      if (q(0, a) != q(n, a))
-        throw Error("periodic spline: the first and last point differ on axis " + std::to_string(a));
+  std::vector<double> end_values(static_cast<std::size_t>(m));
+  for (Index a = 0; a < m; ++a) end_values[std::size_t(a)] = q(n, a);
+
+  if (options.ends != EndCondition::kPeriodic) {
+    detail::BulkVector coeffs(static_cast<std::size_t>(n * m * 4));  // default-initialised
+    detail::BulkVector cp(static_cast<std::size_t>(np));
+    detail::BulkVector rp(static_cast<std::size_t>(np * m));
+    bool ok = false;
+    const double* ud = u.data();
+    const double* qd = q.data();
+    const Index ld = q.outerStride();
+    switch (m) {
+      case 1: ok = banded_fit<1>(ud, qd, ld, n, m, options, cp.data(), rp.data(), coeffs.data()); break;
+      case 2: ok = banded_fit<2>(ud, qd, ld, n, m, options, cp.data(), rp.data(), coeffs.data()); break;
+      case 3: ok = banded_fit<3>(ud, qd, ld, n, m, options, cp.data(), rp.data(), coeffs.data()); break;
+      case 4: ok = banded_fit<4>(ud, qd, ld, n, m, options, cp.data(), rp.data(), coeffs.data()); break;
+      case 6: ok = banded_fit<6>(ud, qd, ld, n, m, options, cp.data(), rp.data(), coeffs.data()); break;
+      default: ok = banded_fit<0>(ud, qd, ld, n, m, options, cp.data(), rp.data(), coeffs.data()); break;
+    }
+    if (!ok) throw_nonfinite(q);
+    return CubicSpline(Fitted{}, copy_breaks(ud, np), m, std::move(coeffs), std::move(end_values));
+  }
+
+  if (!q.allFinite()) throw Error("spline: point values must be finite");
+  for (Index a = 0; a < m; ++a)
+    if (q(0, a) != q(n, a))
+      throw Error("periodic spline: the first and last point differ on axis " + std::to_string(a));
 
   // dx[i] = u[i+1] - u[i], slope[i] = (q[i+1] - q[i]) / dx[i]  (row-major, n x m)
   std::vector<double> dx(static_cast<std::size_t>(n));
@@ -68,16 +299,15 @@ CubicSpline CubicSpline::fit(const Eigen::Ref<const Eigen::VectorXd>& u,
   std::vector<double> s(static_cast<std::size_t>(np * m));
   auto S = [&](Index i, Index a) -> double& { return s[std::size_t(i * m + a)]; };
 
-  EndCondition ends = options.ends;
-  if (n == 1 && (ends == EndCondition::kNotAKnot || ends == EndCondition::kPeriodic)) {
-    // Two points: the straight line (for periodic the constant).
+  if (n == 1) {
+    // Two (equal) points: the constant.
     for (Index a = 0; a < m; ++a) S(0, a) = S(1, a) = sl(0, a);
-  } else if (periodic && n == 2) {
+  } else if (n == 2) {
     // Three points, periodic: both rows of the 2x2 cyclic system read (h0+h1)(2 s_self + s_other) = r,
     // so s_0 = s_1 = s_2 = (h1 m0 + h0 m1) / (h0 + h1).
     const double h0 = dx[0], h1 = dx[1];
     for (Index a = 0; a < m; ++a) S(0, a) = S(1, a) = S(2, a) = (h1 * sl(0, a) + h0 * sl(1, a)) / (h0 + h1);
-  } else if (periodic) {
+  } else {
     // Cyclic tridiagonal system in s_0..s_{n-1} (s_n = s_0), solved by Sherman-Morrison on top of
     // one tridiagonal solve with m+1 right-hand sides.
     const std::size_t nn = std::size_t(n);
@@ -111,61 +341,12 @@ CubicSpline CubicSpline::fit(const Eigen::Ref<const Eigen::VectorXd>& u,
         S(i, a) = rhs[std::size_t(i) * mc + std::size_t(a)] - fact * rhs[std::size_t(i) * mc + std::size_t(m)];
       S(n, a) = S(0, a);
     }
-  } else {
-    // Tridiagonal system of n+1 rows in s_0..s_n; interior rows are C2 continuity at u_1..u_{n-1}:
-    //   h_i s_{i-1} + 2 (h_{i-1} + h_i) s_i + h_{i-1} s_{i+1} = 3 (h_i m_{i-1} + h_{i-1} m_i)
-    const std::size_t N = std::size_t(np);
-    std::vector<double> dl(N - 1, 0.0), d(N, 0.0), du(N - 1, 0.0);
-    for (Index i = 1; i < n; ++i) {
-      const std::size_t k = std::size_t(i);
-      dl[k - 1] = dx[k];
-      d[k] = 2.0 * (dx[k - 1] + dx[k]);
-      du[k] = dx[k - 1];
-      for (Index a = 0; a < m; ++a) S(i, a) = 3.0 * (dx[k] * sl(i - 1, a) + dx[k - 1] * sl(i, a));
-    }
-    if (ends == EndCondition::kNotAKnot && n == 2) {
-      // Three points: the parabola, s_0 + s_1 = 2 m_0 and s_1 + s_2 = 2 m_1 (as SciPy does).
-      d[0] = 1.0; du[0] = 1.0;
-      dl[1] = 1.0; d[2] = 1.0;
-      for (Index a = 0; a < m; ++a) {
-        S(0, a) = 2.0 * sl(0, a);
-        S(2, a) = 2.0 * sl(1, a);
-      }
-    } else if (ends == EndCondition::kNotAKnot) {
-      // q''' continuous at u_1 and u_{n-1}.
-      const double d0 = dx[0] + dx[1];
-      d[0] = dx[1];
-      du[0] = d0;
-      const double dn = dx[N - 2] + dx[N - 3];
-      d[N - 1] = dx[N - 3];
-      dl[N - 2] = dn;
-      for (Index a = 0; a < m; ++a) {
-        S(0, a) = ((dx[0] + 2.0 * d0) * dx[1] * sl(0, a) + dx[0] * dx[0] * sl(1, a)) / d0;
-        S(n, a) = (dx[N - 2] * dx[N - 2] * sl(n - 2, a) + (2.0 * dn + dx[N - 2]) * dx[N - 3] * sl(n - 1, a)) / dn;
-      }
-    } else if (ends == EndCondition::kNatural) {
-      // q'' = 0 at both ends: 2 s_0 + s_1 = 3 m_0, s_{n-1} + 2 s_n = 3 m_{n-1}.
-      d[0] = 2.0; du[0] = 1.0;
-      dl[N - 2] = 1.0; d[N - 1] = 2.0;
-      for (Index a = 0; a < m; ++a) {
-        S(0, a) = 3.0 * sl(0, a);
-        S(n, a) = 3.0 * sl(n - 1, a);
-      }
-    } else {  // clamped
-      d[0] = 1.0; du[0] = 0.0;
-      dl[N - 2] = 0.0; d[N - 1] = 1.0;
-      for (Index a = 0; a < m; ++a) {
-        S(0, a) = options.start_slope[a];
-        S(n, a) = options.end_slope[a];
-      }
-    }
-    if (!detail::solve_tridiagonal(dl, d, du, s.data(), std::size_t(m)))
-      throw Error("spline: singular system (check that the parameters increase)");
   }
+  if (!std::all_of(s.begin(), s.end(), [](double v) { return std::isfinite(v); }))
+    throw Error("spline: the parameters or point values are too far apart (their differences overflow)");
 
   // Hermite form of each piece, as in SciPy's CubicSpline.
-  std::vector<double> breaks(u.data(), u.data() + np);
-  std::vector<double> coeffs(static_cast<std::size_t>(n * m * 4));
+  detail::BulkVector coeffs(static_cast<std::size_t>(n * m * 4));
   for (Index i = 0; i < n; ++i) {
     const double h = dx[std::size_t(i)];
     for (Index a = 0; a < m; ++a) {
@@ -177,22 +358,7 @@ CubicSpline CubicSpline::fit(const Eigen::Ref<const Eigen::VectorXd>& u,
       c[3] = t / h;
     }
   }
-  std::vector<double> end_values(static_cast<std::size_t>(m));
-  for (Index a = 0; a < m; ++a) end_values[std::size_t(a)] = q(n, a);
-  return CubicSpline(std::move(breaks), m, std::move(coeffs), std::move(end_values));
-}
-
-Index CubicSpline::find_piece(double u) const {
-  const Index n = pieces();
-  if (n <= 1 || !(u >= breaks_[1])) return 0;  // also NaN -> 0; u_1 itself belongs to piece 1
-  if (u >= breaks_[std::size_t(n - 1)]) return n - 1;
-  const auto it = std::upper_bound(breaks_.begin() + 1, breaks_.end() - 1, u);
-  return Index(it - breaks_.begin()) - 1;
-}
-
-double CubicSpline::eval_piece(Index piece, double u, Index axis, int deriv) const {
-  if (deriv == 0 && u == breaks_.back() && piece + 1 == pieces()) return end_values_[std::size_t(axis)];
-  return cubic_eval(coeffs(piece, axis), u - breaks_[std::size_t(piece)], deriv);
+  return CubicSpline(Fitted{}, copy_breaks(u.data(), np), m, std::move(coeffs), std::move(end_values));
 }
 
 double CubicSpline::eval(double u, Index axis, int deriv) const { return eval_piece(find_piece(u), u, axis, deriv); }
@@ -238,23 +404,5 @@ Range CubicSpline::piece_range(Index piece, Index axis, int deriv) const {
   return r;
 }
 
-Index CubicSpline::Cursor::piece(double u) {
-  const auto& b = spline_->breaks_;
-  const Index n = spline_->pieces();
-  Index i = last_;
-  // Walk a few steps; fall back to binary search for far jumps.
-  for (int step = 0; step < 8; ++step) {
-    if (i + 1 < n && u >= b[std::size_t(i) + 1]) {
-      ++i;
-    } else if (i > 0 && u < b[std::size_t(i)]) {
-      --i;
-    } else {
-      last_ = i;
-      return i;
-    }
-  }
-  last_ = spline_->find_piece(u);
-  return last_;
-}
 
 }  // namespace c2path
