@@ -1,5 +1,6 @@
 #include "c2path/scene.hpp"
 
+#include <charconv>
 #include <cmath>
 #include <limits>
 #include <string>
@@ -47,6 +48,13 @@ namespace {
 
 std::string wp_name(std::size_t k) { return "waypoint " + std::to_string(k + 1); }
 
+// Shortest round-trip text of a number, as the scene file would write it (not std::to_string's "0.000000").
+std::string num_text(double v) {
+  char buf[32];
+  const auto r = std::to_chars(buf, buf + sizeof buf, v);
+  return std::string(buf, r.ptr);
+}
+
 }  // namespace
 
 void validate_scene(const Scene& s) {
@@ -56,14 +64,15 @@ void validate_scene(const Scene& s) {
     const AxisSpec& ax = s.axes[i];
     const std::string who = "axis '" + ax.name + "'";
     if (ax.min && ax.max && !(*ax.min < *ax.max))
-      fail(ax.loc, who + ": min must be below max (min " + std::to_string(*ax.min) + ", max " + std::to_string(*ax.max) + ")");
+      fail(ax.loc, who + ": min must be below max (min " + num_text(*ax.min) + ", max " + num_text(*ax.max) + ")");
     const std::pair<const char*, const std::optional<double>*> lims[] = {{"vel", &ax.vel}, {"acc", &ax.acc}, {"jerk", &ax.jerk}};
     for (const auto& [key, val] : lims)
       if (*val && !(**val > 0.0)) fail(ax.loc, who + ": '" + key + "' must be greater than 0 (omit it to leave it unchecked)");
   }
   const Index m = Index(s.axes.size());
   if (s.waypoints.size() < 2)
-    fail({}, "a move needs at least 2 waypoints, the scene has " + std::to_string(s.waypoints.size()));
+    fail(s.waypoints.empty() ? SourceLoc{} : s.waypoints.back().loc,
+         "a move needs at least 2 waypoints, the scene has " + std::to_string(s.waypoints.size()));
   for (std::size_t k = 0; k < s.waypoints.size(); ++k) {
     const Waypoint& w = s.waypoints[k];
     if (Index(w.q.size()) != m) fail(w.loc, wp_name(k) + ": needs a value for each of the " + std::to_string(m) + " axes");
@@ -79,7 +88,7 @@ void validate_scene(const Scene& s) {
       fail(w.t_loc, wp_name(k) + ": 't' is only allowed in keyframes mode (timing mode is " + to_string(s.timing.mode) + ")");
     if (w.t && !std::isfinite(*w.t)) fail(w.t_loc, wp_name(k) + ": 't' must be a finite number");
     if (keyframes && k > 0 && !(*w.t > *s.waypoints[k - 1].t))
-      fail(w.t_loc, wp_name(k) + ": 't' must be greater than the previous waypoint's (" + std::to_string(*s.waypoints[k - 1].t) + ")");
+      fail(w.t_loc, wp_name(k) + ": 't' must be greater than the previous waypoint's (" + num_text(*s.waypoints[k - 1].t) + ")");
   }
   if (s.timing.mode == TimingMode::kDuration) {
     if (!s.timing.duration_s) fail(s.timing.loc, "timing: mode duration needs 'duration' (seconds)");
@@ -102,7 +111,7 @@ void validate_scene(const Scene& s) {
     for (Index a = 0; a < m; ++a)
       if (q(0, a) != q(Index(last), a))
         fail(s.waypoints[last].loc, "periodic path: the last waypoint must equal the first, but '" + s.axes[std::size_t(a)].name +
-                                        "' is " + std::to_string(q(Index(last), a)) + " instead of " + std::to_string(q(0, a)) +
+                                        "' is " + num_text(q(Index(last), a)) + " instead of " + num_text(q(0, a)) +
                                         " (repeat the first waypoint at the end, or use ends: not-a-knot)");
   }
   if (auto k = find_coincident(q, knot_weights(s)))

@@ -58,7 +58,26 @@ class Loader {
  public:
   explicit Loader(std::string file) : file_(std::move(file)) {}
 
-  [[noreturn]] void fail(SourceLoc loc, const std::string& msg) const { throw Error(file_, loc, msg); }
+  // Every message is one line: control characters quoted from the file (a newline inside a
+  // quoted key or name) are written as escapes.
+  [[noreturn]] void fail(SourceLoc loc, const std::string& msg) const { throw Error(file_, loc, one_line(msg)); }
+
+  static std::string one_line(const std::string& msg) {
+    std::string out;
+    for (char c : msg) {
+      const auto u = static_cast<unsigned char>(c);
+      if (c == '\n') out += "\\n";
+      else if (c == '\r') out += "\\r";
+      else if (c == '\t') out += "\\t";
+      else if (u < 0x20 || u == 0x7f) {
+        static const char* hex = "0123456789abcdef";
+        out += "\\x";
+        out += hex[u >> 4];
+        out += hex[u & 15];
+      } else out += c;
+    }
+    return out;
+  }
   [[noreturn]] void fail(const YAML::Node& n, const std::string& msg) const { fail(loc_of(n), msg); }
 
   static const char* kind(const YAML::Node& n) {
@@ -256,7 +275,8 @@ class Loader {
       }
       if (!named) fail(a, where + ": 'name' is missing");
       if (ax.min && ax.max && !(*ax.min < *ax.max))
-        fail(a, where + " ('" + ax.name + "'): min must be below max");
+        fail(a["max"], where + " ('" + ax.name + "'): max must be above min (min " + a["min"].Scalar() + ", max " +
+                           a["max"].Scalar() + ")");
       scene.axes.push_back(std::move(ax));
     }
   }
@@ -342,6 +362,8 @@ class Loader {
     if (!wps.IsSequence()) fail(wps, "'waypoints' must be a list, e.g. - {t: 0, " + scene.axes[0].name + ": 0}");
     if (wps.size() > kMaxWaypoints)
       fail(wps, "more than " + std::to_string(kMaxWaypoints) + " waypoints; split the move");
+    if (wps.size() < 2)
+      fail(wps, "a move needs at least 2 waypoints, the scene has " + std::to_string(wps.size()));
     std::vector<std::string> valid = {"t", "hold", "stop"};
     for (const auto& a : scene.axes) valid.push_back(a.name);
     scene.waypoints.reserve(wps.size());

@@ -1,0 +1,364 @@
+// Tests of the limit check (limits.hpp) on hand-built piecewise-cubic trajectories whose peaks and
+// crossing times are known in closed form. The source of every expected value is named beside it:
+// "hand" means worked out on paper from the polynomial, "identity" a mathematical identity; the
+// cubic roots were also cross-checked with numpy.roots (Debian /usr/bin/python3), as noted.
+
+#include <catch2/catch.hpp>
+
+#include <array>
+#include <cmath>
+#include <numbers>
+#include <vector>
+
+#include "c2path/error.hpp"
+#include "c2path/limits.hpp"
+#include "c2path/trajectory.hpp"
+#include "test_util.hpp"
+
+namespace {
+
+using namespace c2path;
+using Poly = std::array<double, 4>;  // p0 + p1 t + p2 t^2 + p3 t^3 in global time t
+
+// Local coefficients of p around a (Taylor shift): c_k = sum_j C(j, k) p_j a^(j-k).
+Poly shift(const Poly& p, double a) {
+  return {p[0] + a * (p[1] + a * (p[2] + a * p[3])), p[1] + a * (2 * p[2] + 3 * a * p[3]), p[2] + 3 * a * p[3], p[3]};
+}
+
+// One CubicSpline per entry of `segments` (each a list of breakpoints), all axes following the
+// global polynomials `axes` (one per axis). Consecutive segments must share their end breakpoints.
+CubicTrajectory make_traj(const std::vector<Poly>& axes, const std::vector<std::vector<double>>& segments) {
+  std::vector<CubicSpline> sp;
+  for (const auto& br : segments) {
+    std::vector<double> c;
+    for (std::size_t i = 0; i + 1 < br.size(); ++i)
+      for (const Poly& p : axes) {
+        const Poly l = shift(p, br[i]);
+        c.insert(c.end(), l.begin(), l.end());
+      }
+    sp.emplace_back(br, Index(axes.size()), c);
+  }
+  return CubicTrajectory(std::move(sp));
+}
+
+// q(t/k): the same move slowed down uniformly by k (identity: d^j/dt^j q(t/k) = q^(j)(t/k) / k^j).
+Poly stretched(const Poly& p, double k) { return {p[0], p[1] / k, p[2] / (k * k), p[3] / (k * k * k)}; }
+std::vector<double> scaled(std::vector<double> b, double k) {
+  for (double& x : b) x *= k;
+  return b;
+}
+
+// q = t^3 - 3t (used throughout): q' = 3t^2 - 3, q'' = 6t, q''' = 6.
+const Poly kCubic = {0.0, -3.0, 0.0, 1.0};
+// The roots of t^3 - 3t = c on [-2, 2] are 2 cos((acos(c/2) + 2 pi m) / 3), m = 0, 1, 2
+// (identity: (2 cos x)^3 - 3 (2 cos x) = 2 cos 3x); for c = 1.5 they are -1.38436715, -0.55787470,
+// 1.94224185 (cross-checked with numpy.roots([1, 0, -3, -1.5])).
+double cubic_root(double c, int m) { return 2.0 * std::cos((std::acos(c / 2.0) + 2.0 * std::numbers::pi * m) / 3.0); }
+
+AxisLimits limits(std::optional<double> min, std::optional<double> max, std::optional<double> vel,
+                  std::optional<double> acc, std::optional<double> jerk) {
+  AxisLimits l;
+  l.min = min;
+  l.max = max;
+  l.vel = vel;
+  l.acc = acc;
+  l.jerk = jerk;
+  return l;
+}
+
+struct Want {
+  Index axis;
+  Quantity q;
+  double t_start, t_end, peak, limit;
+};
+
+void check_violations(const Report& r, const std::vector<Want>& want, double tol = 1e-12) {
+  REQUIRE(r.violations.size() == want.size());
+  for (std::size_t i = 0; i < want.size(); ++i) {
+    const Violation& v = r.violations[i];
+    INFO("violation " << i << ": axis " << v.axis << " " << to_string(v.quantity) << " [" << v.t_start << ", " << v.t_end
+                      << "] peak " << v.peak);
+    CHECK(v.axis == want[i].axis);
+    CHECK(v.quantity == want[i].q);
+    C2PATH_CHECK_NEAR("t_start", i, v.t_start, want[i].t_start, 0.0, tol);
+    C2PATH_CHECK_NEAR("t_end", i, v.t_end, want[i].t_end, 0.0, tol);
+    C2PATH_CHECK_NEAR("peak", i, v.peak, want[i].peak, tol, tol);
+    CHECK(v.limit == want[i].limit);
+    CHECK(v.t_peak >= v.t_start);
+    CHECK(v.t_peak <= v.t_end);
+  }
+}
+
+}  // namespace
+
+TEST_CASE("limits: exact peaks of t^3 - 3t on [-2, 2]", "[limits]") {
+  // Split into pieces at awkward places: the peaks must not depend on where the breaks are.
+  for (const auto& br : {std::vector<double>{-2.0, 2.0}, std::vector<double>{-2.0, -1.3, 0.25, 1.7, 2.0}}) {
+    const CubicTrajectory tr = make_traj({kCubic}, {br});
+    const Report r = check_limits(tr, {AxisLimits{}});
+    REQUIRE(r.peaks.size() == 1);
+    const AxisPeaks& p = r.peaks[0];
+    // Hand: q(-2) = -2, q(-1) = 2 (local max), q(1) = -2 (local min), q(2) = 2.
+    C2PATH_CHECK_NEAR("pos_min", 0, p.pos_min, -2.0, 0.0, 1e-14);
+    C2PATH_CHECK_NEAR("pos_max", 0, p.pos_max, 2.0, 0.0, 1e-14);
+    CHECK((std::abs(p.t_pos_min + 2.0) < 1e-12 || std::abs(p.t_pos_min - 1.0) < 1e-12));
+    CHECK((std::abs(p.t_pos_max + 1.0) < 1e-12 || std::abs(p.t_pos_max - 2.0) < 1e-12));
+    // Hand: |q'| = |3t^2 - 3| is largest, 9, at t = +-2; |q''| = |6t| is 12 at t = +-2; q''' = 6.
+    C2PATH_CHECK_NEAR("vel", 0, p.vel, 9.0, 0.0, 1e-13);
+    CHECK(std::abs(std::abs(p.t_vel) - 2.0) < 1e-14);
+    C2PATH_CHECK_NEAR("acc", 0, p.acc, 12.0, 0.0, 1e-13);
+    CHECK(std::abs(std::abs(p.t_acc) - 2.0) < 1e-14);
+    C2PATH_CHECK_NEAR("jerk", 0, p.jerk, 6.0, 0.0, 1e-13);
+    CHECK(r.ok);
+    CHECK(r.violations.empty());
+    CHECK(r.stretch == 1.0);
+    CHECK(r.exact);
+    CHECK(r.t_begin == -2.0);
+    CHECK(r.t_end == 2.0);
+    CHECK(r.duration == 4.0);
+  }
+}
+
+TEST_CASE("limits: an interior extreme (parabola) and a line", "[limits]") {
+  // q = 4 - (t - 1)^2 = 3 + 2t - t^2 on [-1, 3], a break at 0.4: the top, 4 at t = 1, lies inside
+  // a piece (hand). q' = 2 - 2t: |q'| = 4 at both ends; q'' = -2; q''' = 0.
+  const Poly par = {3.0, 2.0, -1.0, 0.0};
+  const CubicTrajectory tr = make_traj({par}, {{-1.0, 0.4, 3.0}});
+  Report r = check_limits(tr, {AxisLimits{}});
+  const AxisPeaks& p = r.peaks[0];
+  C2PATH_CHECK_NEAR("pos_max", 0, p.pos_max, 4.0, 0.0, 1e-14);
+  C2PATH_CHECK_NEAR("t_pos_max", 0, p.t_pos_max, 1.0, 0.0, 1e-12);  // the root of q' = 2 - 2t
+  C2PATH_CHECK_NEAR("pos_min", 0, p.pos_min, 0.0, 0.0, 1e-14);
+  C2PATH_CHECK_NEAR("vel", 0, p.vel, 4.0, 0.0, 1e-14);
+  C2PATH_CHECK_NEAR("acc", 0, p.acc, 2.0, 0.0, 1e-14);
+  CHECK(p.jerk == 0.0);
+  // max 3.75: 4 - (t-1)^2 > 3.75 <=> |t - 1| < 0.5, so [0.5, 1.5], peak 4 (hand). acc at exactly
+  // its limit 2 is not a violation.
+  r = check_limits(tr, {limits(std::nullopt, 3.75, std::nullopt, 2.0, 1.0)});
+  check_violations(r, {{0, Quantity::kPos, 0.5, 1.5, 4.0, 3.75}});
+  CHECK(r.pos_violation);
+  CHECK(r.stretch == 1.0);  // slowing down cannot fix a position violation
+  CHECK_FALSE(r.ok);
+  // min 0.5: 3 + 2t - t^2 < 0.5 <=> t < 1 - sqrt(3.5) or t > 1 + sqrt(3.5) (quadratic formula).
+  r = check_limits(tr, {limits(0.5, std::nullopt, std::nullopt, std::nullopt, std::nullopt)});
+  check_violations(r, {{0, Quantity::kPos, -1.0, 1.0 - std::sqrt(3.5), 0.0, 0.5},
+                       {0, Quantity::kPos, 1.0 + std::sqrt(3.5), 3.0, 0.0, 0.5}});
+
+  // A line q = 0.5 + 2t on [0, 4]: vel 2 everywhere, acc and jerk 0 (hand). vel limit 1.5: the whole
+  // move, merged across both breaks, and stretch 2 / 1.5.
+  const CubicTrajectory line = make_traj({{0.5, 2.0, 0.0, 0.0}}, {{0.0, 1.0, 2.5, 4.0}});
+  r = check_limits(line, {limits(0.0, 10.0, 1.5, 1.0, 1.0)});
+  check_violations(r, {{0, Quantity::kVel, 0.0, 4.0, 2.0, 1.5}});
+  CHECK(r.peaks[0].pos_min == 0.5);
+  C2PATH_CHECK_NEAR("pos_max", 0, r.peaks[0].pos_max, 8.5, 0.0, 1e-14);
+  CHECK(r.peaks[0].t_pos_max == 4.0);
+  CHECK(r.peaks[0].acc == 0.0);
+  C2PATH_CHECK_NEAR("stretch", 0, r.stretch, 2.0 / 1.5, 1e-15, 0.0);
+  CHECK_FALSE(r.pos_violation);
+}
+
+TEST_CASE("limits: exact violation intervals, merged across pieces and segments, sorted", "[limits]") {
+  // Two identical axes following t^3 - 3t; breaks inside the intervals so that merging matters;
+  // two splines (segments) joined at t = 0.7.
+  const CubicTrajectory tr = make_traj({kCubic, kCubic}, {{-2.0, -1.8, -1.0}, {-1.0, 0.7}, {0.7, 1.5, 2.0}});
+  const AxisLimits l = limits(-1.5, 1.5, 6.0, 6.0, 5.0);
+  const Report r = check_limits(tr, {l, l});
+  const double s3 = std::sqrt(3.0);
+  // Hand / identity:
+  //  pos > 1.5 on (r1, r2) with r1 = cubic_root(1.5, 1) = -1.3844, r2 = cubic_root(1.5, 2) = -0.5579,
+  //    and on (cubic_root(1.5, 0) = 1.9422, 2]; peak 2 (at t = -1 and t = 2);
+  //  pos < -1.5 on the mirror images (q is odd): [-2, -1.9422) and (0.5579, 1.3844), peak -2;
+  //  |vel| = |3t^2 - 3| > 6 <=> |t| > sqrt(3), peak 9 at t = +-2;
+  //  |acc| = |6t| > 6 <=> |t| > 1, peak 12 at t = +-2;
+  //  jerk 6 > 5 on the whole move: one interval, merged across all pieces and segments.
+  const double a = cubic_root(1.5, 0), b = cubic_root(1.5, 1), c = cubic_root(1.5, 2);
+  std::vector<Want> want;
+  // Sorted by t_start, then axis, then quantity (pos < vel < acc < jerk).
+  for (Index ax : {0, 1}) {
+    want.push_back({ax, Quantity::kPos, -2.0, -a, -2.0, -1.5});
+    want.push_back({ax, Quantity::kVel, -2.0, -s3, 9.0, 6.0});
+    want.push_back({ax, Quantity::kAcc, -2.0, -1.0, 12.0, 6.0});
+    want.push_back({ax, Quantity::kJerk, -2.0, 2.0, 6.0, 5.0});
+  }
+  for (Index ax : {0, 1}) want.push_back({ax, Quantity::kPos, b, c, 2.0, 1.5});
+  for (Index ax : {0, 1}) want.push_back({ax, Quantity::kPos, -c, -b, -2.0, -1.5});
+  for (Index ax : {0, 1}) want.push_back({ax, Quantity::kAcc, 1.0, 2.0, 12.0, 6.0});
+  for (Index ax : {0, 1}) want.push_back({ax, Quantity::kVel, s3, 2.0, 9.0, 6.0});
+  for (Index ax : {0, 1}) want.push_back({ax, Quantity::kPos, a, 2.0, 2.0, 1.5});
+  check_violations(r, want);
+  // Where the peaks are (hand): pos max 2 at t = -1 inside (b, c); the -2 of (-c, -b) at t = 1.
+  CHECK(std::abs(r.violations[8].t_peak + 1.0) < 1e-12);
+  CHECK(std::abs(r.violations[10].t_peak - 1.0) < 1e-12);
+  CHECK(std::abs(r.violations[1].t_peak + 2.0) < 1e-14);
+  CHECK(r.pos_violation);
+  CHECK_FALSE(r.ok);
+  // The roots agree with numpy.roots([1, 0, -3, -1.5]) = -1.38436715263814, -0.557874698331525,
+  // 1.94224185096967 (SciPy stack, Debian python3-numpy).
+  CHECK(std::abs(b + 1.38436715263814) < 1e-13);
+  CHECK(std::abs(c + 0.557874698331525) < 1e-13);
+  CHECK(std::abs(a - 1.94224185096967) < 1e-13);
+  // Stretch (design §3): max(9/6, sqrt(12/6), cbrt(6/5)) = 1.5 (hand).
+  C2PATH_CHECK_NEAR("stretch", 0, r.stretch, 1.5, 1e-15, 0.0);
+}
+
+TEST_CASE("limits: several intervals of one quantity in one piece, on both signs", "[limits]") {
+  // |3t^2 - 3| > 2: above +2 for |t| > sqrt(5/3), below -2 for |t| < sqrt(1/3) (hand); the middle
+  // interval's peak is |q'(0)| = 3 at t = 0.
+  const CubicTrajectory tr = make_traj({kCubic}, {{-2.0, 2.0}});
+  const Report r = check_limits(tr, {limits(std::nullopt, std::nullopt, 2.0, std::nullopt, std::nullopt)});
+  const double p = std::sqrt(5.0 / 3.0), m = std::sqrt(1.0 / 3.0);
+  check_violations(r, {{0, Quantity::kVel, -2.0, -p, 9.0, 2.0},
+                       {0, Quantity::kVel, -m, m, 3.0, 2.0},
+                       {0, Quantity::kVel, p, 2.0, 9.0, 2.0}});
+  CHECK(std::abs(r.violations[1].t_peak) < 1e-12);
+}
+
+TEST_CASE("limits: jerk is piecewise constant, its intervals are whole pieces", "[limits]") {
+  // Piece 1 on [0, 1]: q = t^3 (jerk 6); piece 2 on [1, 3]: jerk -2 (c3 = -1/3); piece 3 on
+  // [3, 4]: jerk 12 (c3 = 2). Continuity does not matter to the checker; only the pieces do.
+  std::vector<double> c = {0, 0, 0, 1.0, 1, 3, 3, -1.0 / 3.0, 5, 1, 1, 2.0};
+  const CubicTrajectory tr(std::vector<CubicSpline>{CubicSpline({0.0, 1.0, 3.0, 4.0}, 1, c)});
+  Report r = check_limits(tr, {limits(std::nullopt, std::nullopt, std::nullopt, std::nullopt, 5.0)});
+  // |jerk| > 5 on [0, 1] (6) and [3, 4] (12); not on [1, 3] (2). Hand.
+  check_violations(r, {{0, Quantity::kJerk, 0.0, 1.0, 6.0, 5.0}, {0, Quantity::kJerk, 3.0, 4.0, 12.0, 5.0}});
+  CHECK(r.peaks[0].jerk == 12.0);
+  CHECK(r.peaks[0].t_jerk >= 3.0);
+  // Limit 1: all three pieces, merged into one interval; peak 12.
+  r = check_limits(tr, {limits(std::nullopt, std::nullopt, std::nullopt, std::nullopt, 1.0)});
+  check_violations(r, {{0, Quantity::kJerk, 0.0, 4.0, 12.0, 1.0}});
+  C2PATH_CHECK_NEAR("stretch", 0, r.stretch, std::cbrt(12.0), 1e-15, 0.0);  // cbrt(12/1), design §3
+}
+
+TEST_CASE("limits: the stretch factor brings the worst quantity exactly to its limit", "[limits]") {
+  // t^3 - 3t on [-2, 2] (peaks v 9, a 12, j 6, hand) against three sets of limits, each binding a
+  // different quantity (design §3: k = max(v/vmax, sqrt(a/amax), cbrt(j/jmax))):
+  struct Case {
+    double vel, acc, jerk, k;
+    Quantity binding;
+  };
+  const Case cases[] = {
+      {3.0, 3.0, 6.0, 3.0, Quantity::kVel},              // 9/3 = 3 > sqrt(12/3) = 2 > cbrt(1) = 1
+      {9.0, 1.2, 6.0, std::sqrt(10.0), Quantity::kAcc},  // sqrt(12/1.2) = 3.1623 > 9/9 = 1
+      {9.0, 12.0, 0.006, 10.0, Quantity::kJerk},         // cbrt(6/0.006) = cbrt(1000) = 10
+  };
+  const std::vector<double> br = {-2.0, -0.6, 1.1, 2.0};
+  for (const Case& cs : cases) {
+    INFO("binding " << to_string(cs.binding));
+    const AxisLimits l = limits(-5.0, 5.0, cs.vel, cs.acc, cs.jerk);
+    const Report r = check_limits(make_traj({kCubic}, {br}), {l});
+    CHECK_FALSE(r.ok);
+    CHECK_FALSE(r.pos_violation);
+    C2PATH_CHECK_NEAR("stretch", 0, r.stretch, cs.k, 1e-14, 0.0);
+    // Slow the move down by exactly the reported factor and check again.
+    const Report s = check_limits(make_traj({stretched(kCubic, r.stretch)}, {scaled(br, r.stretch)}), {l});
+    CHECK(s.ok);
+    CHECK(s.violations.empty());
+    CHECK(s.stretch == 1.0);
+    C2PATH_CHECK_NEAR("duration", 0, s.duration, 4.0 * r.stretch, 1e-15, 0.0);
+    // Identity: peaks scale as 1/k, 1/k^2, 1/k^3; the binding one now equals its limit.
+    const double ratio[] = {s.peaks[0].vel / cs.vel, s.peaks[0].acc / cs.acc, s.peaks[0].jerk / cs.jerk};
+    const int bind = cs.binding == Quantity::kVel ? 0 : cs.binding == Quantity::kAcc ? 1 : 2;
+    C2PATH_CHECK_NEAR("binding ratio", bind, ratio[bind], 1.0, 1e-13, 0.0);
+    for (int q = 0; q < 3; ++q) CHECK(ratio[q] <= 1.0 + 1e-13);
+    // Position is unchanged by a time stretch (identity).
+    C2PATH_CHECK_NEAR("pos_max", 0, s.peaks[0].pos_max, 2.0, 0.0, 1e-14);
+  }
+}
+
+TEST_CASE("limits: stretch over several axes takes the worst axis", "[limits]") {
+  // Axis 0: 2 (t^3 - 3t), peaks v 18, a 24, j 12; axis 1: t^3 - 3t, peaks 9, 12, 6 (hand).
+  const Poly twice = {0.0, -6.0, 0.0, 2.0};
+  const CubicTrajectory tr = make_traj({twice, kCubic}, {{-2.0, 0.0, 2.0}});
+  const AxisLimits l0 = limits(std::nullopt, std::nullopt, 20.0, 24.0, 12.0);  // inside (at the limit)
+  const AxisLimits l1 = limits(std::nullopt, std::nullopt, 4.5, 12.0, 6.0);    // vel: 9/4.5 = 2
+  const Report r = check_limits(tr, {l0, l1});
+  C2PATH_CHECK_NEAR("stretch", 0, r.stretch, 2.0, 1e-14, 0.0);
+  REQUIRE(r.violations.size() == 2);
+  for (const auto& v : r.violations) {
+    CHECK(v.axis == 1);
+    CHECK(v.quantity == Quantity::kVel);
+  }
+  // After stretching by 2 every quantity of both axes is inside (identity).
+  const Report s = check_limits(make_traj({stretched(twice, 2.0), stretched(kCubic, 2.0)}, {{-4.0, 0.0, 4.0}}), {l0, l1});
+  CHECK(s.ok);
+  C2PATH_CHECK_NEAR("vel axis 1", 1, s.peaks[1].vel, 4.5, 1e-14, 0.0);
+}
+
+TEST_CASE("limits: tolerance at exactly the limit", "[limits]") {
+  const CubicTrajectory tr = make_traj({kCubic}, {{-2.0, 2.0}});
+  auto vel_limit = [](double v) { return limits(std::nullopt, std::nullopt, v, std::nullopt, std::nullopt); };
+  // Peak |vel| is exactly 9 (hand; 9 - 48 + 48 in floating point is exact).
+  Report r = check_limits(tr, {vel_limit(9.0)});
+  CHECK(r.ok);
+  CHECK(r.stretch == 1.0);
+  // Beyond by 1e-12 relative: inside the default tolerance (1e-9 of the limit), so not reported,
+  // and the stretch factor stays 1 (nothing to stretch).
+  r = check_limits(tr, {vel_limit(9.0 * (1.0 - 1e-12))});
+  CHECK(r.ok);
+  CHECK(r.stretch == 1.0);
+  // ... but reported with rel_tol = 0.
+  CheckOptions strict;
+  strict.rel_tol = 0.0;
+  r = check_limits(tr, {vel_limit(9.0 * (1.0 - 1e-12))}, strict);
+  CHECK_FALSE(r.ok);
+  CHECK(r.violations.size() == 2);
+  CHECK(r.stretch > 1.0);
+  // Exactly at the limit is never a violation, even with rel_tol = 0.
+  CHECK(check_limits(tr, {vel_limit(9.0)}, strict).ok);
+  // Beyond by 1e-6 relative: reported, with the interval where 3t^2 - 3 > 9 (1 - 1e-6), i.e.
+  // |t| > sqrt(4 - 3e-6) (hand).
+  const double L = 9.0 * (1.0 - 1e-6);
+  r = check_limits(tr, {vel_limit(L)});
+  const double t0 = std::sqrt(4.0 - 3e-6);
+  check_violations(r, {{0, Quantity::kVel, -2.0, -t0, 9.0, L}, {0, Quantity::kVel, t0, 2.0, 9.0, L}}, 1e-12);
+  // Position tolerance is relative to the span of the axis: max 2 - 1e-10 with span 4 is inside.
+  r = check_limits(tr, {limits(-2.0, 2.0 - 1e-10, std::nullopt, std::nullopt, std::nullopt)});
+  CHECK(r.ok);
+  r = check_limits(tr, {limits(-2.0, 2.0 - 1e-6, std::nullopt, std::nullopt, std::nullopt)});
+  CHECK_FALSE(r.ok);
+  CHECK(r.pos_violation);
+}
+
+TEST_CASE("limits: absent limits are not checked", "[limits]") {
+  const CubicTrajectory tr = make_traj({kCubic, kCubic}, {{-2.0, 2.0}});
+  // Axis 0 checks nothing; axis 1 only its jerk (6 > 1).
+  const Report r = check_limits(tr, {AxisLimits{}, limits(std::nullopt, std::nullopt, std::nullopt, std::nullopt, 1.0)});
+  REQUIRE(r.violations.size() == 1);
+  CHECK(r.violations[0].axis == 1);
+  CHECK(r.violations[0].quantity == Quantity::kJerk);
+  // Peaks are still reported for the unchecked axis (hand: 9, 12, 6).
+  C2PATH_CHECK_NEAR("vel", 0, r.peaks[0].vel, 9.0, 0.0, 1e-13);
+  C2PATH_CHECK_NEAR("acc", 0, r.peaks[0].acc, 12.0, 0.0, 1e-13);
+  // Stretch only from the checked limits: cbrt(6/1).
+  C2PATH_CHECK_NEAR("stretch", 0, r.stretch, std::cbrt(6.0), 1e-15, 0.0);
+  // Only a min: the max side is not checked.
+  const Report m = check_limits(tr, {limits(-3.0, std::nullopt, std::nullopt, std::nullopt, std::nullopt), AxisLimits{}});
+  CHECK(m.ok);
+}
+
+TEST_CASE("limits: scene_limits, to_string and bad arguments", "[limits]") {
+  Scene s;
+  AxisSpec a;
+  a.name = "x";
+  a.min = -1.0;
+  a.vel = 2.0;
+  s.axes.push_back(a);
+  const auto l = scene_limits(s);
+  REQUIRE(l.size() == 1);
+  CHECK(l[0].min == -1.0);
+  CHECK_FALSE(l[0].max);
+  CHECK(l[0].vel == 2.0);
+  CHECK_FALSE(l[0].acc);
+  CHECK(std::string(to_string(Quantity::kPos)) == "pos");
+  CHECK(std::string(to_string(Quantity::kVel)) == "vel");
+  CHECK(std::string(to_string(Quantity::kAcc)) == "acc");
+  CHECK(std::string(to_string(Quantity::kJerk)) == "jerk");
+  const CubicTrajectory tr = make_traj({kCubic}, {{-2.0, 2.0}});
+  CHECK_THROWS_AS(check_limits(tr, {}), Error);  // one set of limits per axis
+  CheckOptions bad;
+  bad.rel_tol = -1.0;
+  CHECK_THROWS_AS(check_limits(tr, {AxisLimits{}}, bad), Error);
+  bad.rel_tol = 1e-9;
+  bad.samples_per_piece = 1;
+  CHECK_THROWS_AS(check_limits(tr, {AxisLimits{}}, bad), Error);
+}
