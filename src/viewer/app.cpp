@@ -84,7 +84,15 @@ void App::default_mapping() {
   }
 }
 
+void App::backdrop(const Rect& r, ImU32 colour) {
+  ImDrawList* dl = ImGui::GetWindowDrawList();
+  const ImVec2 cmin = dl->GetClipRectMin(), cmax = dl->GetClipRectMax();
+  Rect c{{std::max(r.min.x, cmin.x), std::max(r.min.y, cmin.y)}, {std::min(r.max.x, cmax.x), std::min(r.max.y, cmax.y)}};
+  if (c.valid()) backdrops_.push_back({c, colour});
+}
+
 void App::frame(double dt_s) {
+  backdrops_.clear();
   sync_plan();
   handle_keys();
   if (playing_ && have_samples_) {
@@ -168,9 +176,8 @@ void App::handle_keys() {
 void App::top_bar(const ImVec2& pos, const ImVec2& size) {
   ImGui::SetNextWindowPos(pos);
   ImGui::SetNextWindowSize(size);
-  ImGui::PushStyleColor(ImGuiCol_WindowBg, rgba(14, 16, 20));
   ImGui::Begin("##top", nullptr, kPanel | ImGuiWindowFlags_NoScrollbar);
-  ImGui::PopStyleColor();
+  backdrop({pos, {pos.x + size.x, pos.y + size.y}}, rgba(14, 16, 20));
 
   // Title: the scene's name and file.
   std::string title = "c2path";
@@ -284,15 +291,14 @@ void App::top_bar(const ImVec2& pos, const ImVec2& size) {
 void App::caution_strip(const ImVec2& pos, const ImVec2& size) {
   ImGui::SetNextWindowPos(pos);
   ImGui::SetNextWindowSize(size);
-  ImGui::PushStyleColor(ImGuiCol_WindowBg, rgba(38, 30, 14));
   ImGui::PushStyleVar(ImGuiStyleVar_WindowPadding, {10, 5});
   ImGui::Begin("##caution", nullptr, kPanel | ImGuiWindowFlags_NoScrollbar);
+  backdrop({pos, {pos.x + size.x, pos.y + size.y}}, rgba(38, 30, 14));
   ImGui::PushStyleColor(ImGuiCol_Text, col::kCaution);
   ImGui::TextWrapped("%s", kCaution);
   ImGui::PopStyleColor();
   ImGui::End();
   ImGui::PopStyleVar();
-  ImGui::PopStyleColor();
 }
 
 void App::side_panel(const ImVec2& pos, const ImVec2& size) {

@@ -43,6 +43,14 @@ class App {
   /// Where the 3D path canvas and the plot grid were drawn in the last frame.
   [[nodiscard]] Rect view_rect() const { return view_rect_; }
   [[nodiscard]] Rect plot_rect() const { return plot_rect_; }
+  /// Solid rectangles behind the UI this frame (canvases, bars): the main loop fills them with
+  /// scissored glClear before ImGui draws, which is far cheaper than blended quads under a
+  /// software renderer. Window coordinates.
+  struct Backdrop {
+    Rect rect;
+    ImU32 colour;
+  };
+  [[nodiscard]] const std::vector<Backdrop>& backdrops() const { return backdrops_; }
   /// Counts of the last frame for measurements: samples, path segments after thinning, handles.
   [[nodiscard]] std::string stats() const;
   /// Frame time shown in the View tab [ms].
@@ -50,6 +58,9 @@ class App {
 
  private:
   void sync_plan();
+  /// Adds a backdrop, clipped to the current window's clip rectangle.
+  void backdrop(const Rect& r, ImU32 colour);
+  std::vector<Backdrop> backdrops_;
   void handle_keys();
   void top_bar(const ImVec2& pos, const ImVec2& size);
   void caution_strip(const ImVec2& pos, const ImVec2& size);

@@ -24,7 +24,7 @@ std::optional<double> limit_of(const AxisSpec& a, int d) {
 }
 
 void dashed_hline(ImDrawList* dl, float x0, float x1, float y, ImU32 c) {
-  for (float x = x0; x < x1; x += 9.0f) dl->AddLine({x, y}, {std::min(x + 5.0f, x1), y}, c, 1.5f);
+  for (float x = x0; x < x1; x += 9.0f) dl->AddLine({x, y}, {std::min(x + 5.0f, x1), y}, c, 1.0f);
 }
 
 double nice_step(double raw) {
@@ -46,7 +46,7 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
   const Planned& p = *doc_.shown();
   const AxisSpec& ax = p.scene.axes[axis];
   const float w = r.max.x - r.min.x, h = r.max.y - r.min.y;
-  dl->AddRectFilled(r.min, r.max, axis % 2 ? col::kCanvasAlt : col::kCanvas);
+  backdrop(r, axis % 2 ? col::kCanvasAlt : col::kCanvas);
   dl->PushClipRect(r.min, r.max, true);
 
   // Vertical range: the data, and the limits when they are not far off the data.
@@ -93,19 +93,37 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       line_.push_back({r.min.x + float(j) * w / float(cols),
                        Y(zoom_vals_[(std::size_t(j) * samples_.axes + axis) * 4 + std::size_t(d)])});
   } else {
-    // Each pixel column: a 1 px bar over the min..max of its samples (nothing is lost between
-    // samples of one column), joined by a line through the columns' middles.
+    // Each pixel column covers the min..max of its samples and the last value of the column
+    // before (so nothing between samples is lost and the curve stays connected). Where that
+    // span is small the columns are joined by an anti-aliased line; where it is tall (steep or
+    // oscillating parts) it is drawn as a solid 2 px bar, which costs far less to fill than a
+    // zigzag line.
+    const float* sv = samples_.series(d, axis);
+    float prev_last = sv[col_index_[0]];
+    auto flush = [&] {
+      if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);
+      line_.clear();
+    };
     for (int j = 0; j < cols; ++j) {
       const std::size_t i0 = col_index_[std::size_t(j)], i1 = std::max(col_index_[std::size_t(j) + 1], i0 + 1);
       float a = 0, b = 0;
       samples_.tree[d][axis].query(i0, i1, a, b);
+      a = std::min(a, prev_last);
+      b = std::max(b, prev_last);
+      const float last = sv[std::min(i1, samples_.n) - 1];
       const float x = r.min.x + (float(j) + 0.5f) * w / float(cols);
       const float ya = Y(a), yb = Y(b);
-      if (ya - yb > 1.5f) dl->AddRectFilled({x - 0.5f, yb}, {x + 0.5f, ya}, c);
-      line_.push_back({x, 0.5f * (ya + yb)});
+      if (ya - yb <= 3.0f) line_.push_back({x, Y(0.5f * (a + b))});
+      else {
+        flush();
+        dl->AddRectFilled({x - 1.0f, yb}, {x + 1.0f, ya}, c);
+        line_.push_back({x, Y(last)});
+      }
+      prev_last = last;
     }
+    flush();
   }
-  if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 1.6f);
+  if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);  // integer widths: textured AA lines, fewer vertices
 
   // Playhead.
   const float xp = plot_x(t_, r);

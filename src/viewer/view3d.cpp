@@ -138,7 +138,7 @@ void App::draw_grid(ImDrawList* dl) {
     e[c] = 1.0;
     if (c == 2) e[2] = 1.0;
     const ImVec2 po = project(o), pe = project(e);
-    dl->AddLine(po, pe, col::kGridStrong, 1.5f);
+    dl->AddLine(po, pe, col::kGridStrong, 1.0f);
     const std::string name = coord_label(s, map_[c]);
     const std::string lo = fmt::num(centre_[c] - half_[c], 4), hi = fmt::num(centre_[c] + half_[c], 4);
     const char* which = c == 0 ? "X " : c == 1 ? "Y " : "Z ";
@@ -172,7 +172,7 @@ void App::draw_path(ImDrawList* dl) {
       dl->PathLineTo(segs[j].b);
       ++j;
     }
-    dl->PathStroke(colr, 0, beyond ? 4.0f : 2.5f);
+    dl->PathStroke(colr, 0, beyond ? 4.0f : 3.0f);  // integer widths: textured AA lines
     i = j;
   }
 }
@@ -356,10 +356,10 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
     const ImU32 fill = sel ? col::kHandleSel : hot ? rgba(230, 232, 236) : col::kHandle;
     if (w.stop) {
       dl->AddRectFilled({pt.x - r, pt.y - r}, {pt.x + r, pt.y + r}, fill, 2.0f);
-      dl->AddRect({pt.x - r, pt.y - r}, {pt.x + r, pt.y + r}, col::kHandleRim, 2.0f, 0, 1.5f);
+      dl->AddRect({pt.x - r, pt.y - r}, {pt.x + r, pt.y + r}, col::kHandleRim, 2.0f, 0, 1.0f);
     } else {
-      dl->AddCircleFilled(pt, r, fill, 20);
-      dl->AddCircle(pt, r, col::kHandleRim, 20, 1.5f);
+      dl->AddCircleFilled(pt, r, fill, 14);
+      dl->AddCircle(pt, r, col::kHandleRim, 14, 1.0f);
     }
     if (sel) dl->AddCircle(pt, r + 3.0f, col::kCaution, 24, 2.0f);
     const std::string label = std::to_string(k + 1);
@@ -493,7 +493,7 @@ void App::view_panel(const ImVec2& pos, const ImVec2& size) {
   view_rect_ = {c0, {c0.x + avail.x, c0.y + avail.y}};
   ImDrawList* dl = ImGui::GetWindowDrawList();
   dl->PushClipRect(view_rect_.min, view_rect_.max, true);
-  dl->AddRectFilled(view_rect_.min, view_rect_.max, col::kCanvas);
+  backdrop(view_rect_, col::kCanvas);
   if (!have_samples_ || !doc_.has_scene()) {
     const char* msg = doc_.has_scene() ? "No valid plan yet: see the message above." : "No scene loaded.";
     const ImVec2 ts = ImGui::CalcTextSize(msg);
