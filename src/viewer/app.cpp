@@ -184,6 +184,7 @@ void App::top_bar(const ImVec2& pos, const ImVec2& size) {
   if (doc_.has_scene()) {
     const Scene& s = doc_.scene();
     title = s.name.empty() ? std::filesystem::path(doc_.path()).filename().string() : s.name;
+    if (title.size() > 40) title = title.substr(0, 38) + "..";
     title += doc_.modified() ? "  *" : "";
   }
   ImGui::AlignTextToFramePadding();
@@ -237,9 +238,23 @@ void App::top_bar(const ImVec2& pos, const ImVec2& size) {
     if (ImGui::IsItemHovered()) ImGui::SetTooltip("playback rate (1x = real time)");
   }
 
-  // Right side: edit and file actions.
-  const float bw = 286.0f;
-  ImGui::SameLine(std::max(ImGui::GetItemRectMax().x - ImGui::GetWindowPos().x + 16.0f, size.x - bw));
+  ImGui::End();
+}
+
+void App::caution_strip(const ImVec2& pos, const ImVec2& size) {
+  ImGui::SetNextWindowPos(pos);
+  ImGui::SetNextWindowSize(size);
+  ImGui::PushStyleVar(ImGuiStyleVar_WindowPadding, {10, 5});
+  ImGui::Begin("##caution", nullptr, kPanel | ImGuiWindowFlags_NoScrollbar);
+  backdrop({pos, {pos.x + size.x, pos.y + size.y}}, rgba(38, 30, 14));
+  ImGui::PushStyleColor(ImGuiCol_Text, col::kCaution);
+  ImGui::TextWrapped("%s", kCaution);
+  ImGui::PopStyleColor();
+  ImGui::End();
+  ImGui::PopStyleVar();
+}
+
+void App::actions_row() {
   ImGui::BeginDisabled(!doc_.can_undo());
   if (ImGui::Button("Undo")) doc_.undo();
   ImGui::EndDisabled();
@@ -285,28 +300,17 @@ void App::top_bar(const ImVec2& pos, const ImVec2& size) {
         "  double-click: whole move; hover: t, value and % of limit");
     ImGui::EndTooltip();
   }
-  ImGui::End();
-}
-
-void App::caution_strip(const ImVec2& pos, const ImVec2& size) {
-  ImGui::SetNextWindowPos(pos);
-  ImGui::SetNextWindowSize(size);
-  ImGui::PushStyleVar(ImGuiStyleVar_WindowPadding, {10, 5});
-  ImGui::Begin("##caution", nullptr, kPanel | ImGuiWindowFlags_NoScrollbar);
-  backdrop({pos, {pos.x + size.x, pos.y + size.y}}, rgba(38, 30, 14));
-  ImGui::PushStyleColor(ImGuiCol_Text, col::kCaution);
-  ImGui::TextWrapped("%s", kCaution);
-  ImGui::PopStyleColor();
-  ImGui::End();
-  ImGui::PopStyleVar();
 }
 
 void App::side_panel(const ImVec2& pos, const ImVec2& size) {
   ImGui::SetNextWindowPos(pos);
   ImGui::SetNextWindowSize(size);
   ImGui::Begin("##side", nullptr, kPanel | ImGuiWindowFlags_NoScrollbar);
+  actions_row();
   if (!status_.empty()) {
+    ImGui::SameLine();
     ImGui::TextColored(ImColor(status_bad_ ? col::kBad : col::kOk), "%s", status_.c_str());
+    if (ImGui::IsItemHovered()) ImGui::SetTooltip("%s", status_.c_str());
   }
   if (ImGui::BeginTabBar("##tabs")) {
     const auto flag = [&](int i) { return tab_request_ == i ? ImGuiTabItemFlags_SetSelected : 0; };

@@ -66,6 +66,7 @@ class App {
   void caution_strip(const ImVec2& pos, const ImVec2& size);
   void view_panel(const ImVec2& pos, const ImVec2& size);
   void side_panel(const ImVec2& pos, const ImVec2& size);
+  void actions_row();
   void plots_panel(const ImVec2& pos, const ImVec2& size);
   void waypoint_table();
   void report_tab();

@@ -18,6 +18,7 @@
 #include <malloc.h>
 
 #include <algorithm>
+#include <cfloat>
 #include <chrono>
 #include <cstdio>
 #include <cstdlib>
@@ -258,6 +259,7 @@ int main(int argc, char** argv) {
     last = t0;
     ImGui_ImplOpenGL3_NewFrame();
     ImGui_ImplGlfw_NewFrame();
+    if (headless) io.MousePos = ImVec2(-FLT_MAX, -FLT_MAX);  // no hover effects in screenshots
     ImGui::NewFrame();
     app.frame(headless ? 1.0 / 60.0 : std::min(dt, 0.1));
     const auto t1 = Clock::now();

@@ -159,44 +159,58 @@ void App::report_tab() {
   for (const auto& note : p->plan.notes) ImGui::TextColored(ImColor(col::kTextDim), "note: %s", note.c_str());
   ImGui::PopTextWrapPos();
 
+  // The `check` table, one column per axis (it fits the side panel): travel used, allowed range,
+  // peak |vel|, |acc|, |jerk| with % of limit; "!" and red where a limit is exceeded.
   std::vector<std::string> unchecked;
-  const ImGuiTableFlags tf = ImGuiTableFlags_RowBg | ImGuiTableFlags_BordersInnerV | ImGuiTableFlags_SizingFixedFit;
-  if (ImGui::BeginTable("##peaks", 6, tf)) {
-    for (const char* h : {"axis", "travel used", "allowed", "peak |vel|", "peak |acc|", "peak |jerk|"}) ImGui::TableSetupColumn(h);
+  const int na = int(std::min<std::size_t>(s.axes.size(), 63));
+  const ImGuiTableFlags tf = ImGuiTableFlags_RowBg | ImGuiTableFlags_BordersInnerV | ImGuiTableFlags_SizingFixedFit |
+                             ImGuiTableFlags_ScrollX;
+  const float table_h = 6.0f * (ImGui::GetTextLineHeight() + 2.0f * ImGui::GetStyle().CellPadding.y + 1.0f) + 16.0f;
+  if (ImGui::BeginTable("##peaks", na + 1, tf, {0, table_h})) {
+    ImGui::TableSetupScrollFreeze(1, 0);
+    ImGui::TableSetupColumn("axis");
+    for (int a = 0; a < na; ++a) {
+      const AxisSpec& ax = s.axes[std::size_t(a)];
+      const std::string h = ax.unit.empty() ? ax.name : ax.name + " " + ax.unit;
+      ImGui::TableSetupColumn(h.c_str());
+    }
     ImGui::TableHeadersRow();
-    auto cell = [](double v, const std::optional<double>& lim) {
-      const bool bad = lim && v > *lim * (1 + 1e-9);
-      const std::string txt = fmt::num(v, 4) + (lim ? " (" + fmt::pct(v, lim) + ")" : " (-)") + (bad ? " !" : "");
+    auto show = [](const std::string& txt, bool bad) {
       if (bad) ImGui::TextColored(ImColor(col::kBad), "%s", txt.c_str());
       else ImGui::TextUnformatted(txt.c_str());
     };
-    for (std::size_t a = 0; a < s.axes.size(); ++a) {
-      const AxisSpec& ax = s.axes[a];
-      const AxisPeaks& pk = r.peaks[a];
-      bool pos_bad = (ax.min && pk.pos_min < *ax.min) || (ax.max && pk.pos_max > *ax.max);
-      for (const auto& v : r.violations)
-        if (v.axis == Index(a) && v.quantity == Quantity::kPos) pos_bad = true;
+    auto cell = [&](double v, const std::optional<double>& lim) {
+      const bool bad = lim && v > *lim * (1 + 1e-9);
+      show(fmt::num(v, 4) + (lim ? " (" + fmt::pct(v, lim) + ")" : " (-)") + (bad ? " !" : ""), bad);
+    };
+    static const char* kRows[] = {"travel used", "allowed", "peak |vel|", "peak |acc|", "peak |jerk|"};
+    for (int row = 0; row < 5; ++row) {
       ImGui::TableNextRow();
       ImGui::TableNextColumn();
-      ImGui::TextColored(ImColor(axis_colour(a)), "%s%s", ax.name.c_str(), ax.unit.empty() ? "" : (" " + ax.unit).c_str());
-      ImGui::TableNextColumn();
-      const std::string used = fmt::num(pk.pos_min) + " .. " + fmt::num(pk.pos_max) + (pos_bad ? " !" : "");
-      if (pos_bad) ImGui::TextColored(ImColor(col::kBad), "%s", used.c_str());
-      else ImGui::TextUnformatted(used.c_str());
-      ImGui::TableNextColumn();
-      ImGui::Text("%s .. %s", ax.min ? fmt::num(*ax.min).c_str() : "-inf", ax.max ? fmt::num(*ax.max).c_str() : "+inf");
-      ImGui::TableNextColumn();
-      cell(pk.vel, ax.vel);
-      ImGui::TableNextColumn();
-      cell(pk.acc, ax.acc);
-      ImGui::TableNextColumn();
-      cell(pk.jerk, ax.jerk);
-      if (!ax.min && !ax.max) unchecked.push_back(ax.name + " travel");
-      if (!ax.vel) unchecked.push_back(ax.name + " vel");
-      if (!ax.acc) unchecked.push_back(ax.name + " acc");
-      if (!ax.jerk) unchecked.push_back(ax.name + " jerk");
+      ImGui::TextColored(ImColor(col::kTextDim), "%s", kRows[row]);
+      for (int a = 0; a < na; ++a) {
+        const AxisSpec& ax = s.axes[std::size_t(a)];
+        const AxisPeaks& pk = r.peaks[std::size_t(a)];
+        ImGui::TableNextColumn();
+        if (row == 0) {
+          bool pos_bad = (ax.min && pk.pos_min < *ax.min) || (ax.max && pk.pos_max > *ax.max);
+          for (const auto& v : r.violations)
+            if (v.axis == Index(a) && v.quantity == Quantity::kPos) pos_bad = true;
+          show(fmt::num(pk.pos_min) + " .. " + fmt::num(pk.pos_max) + (pos_bad ? " !" : ""), pos_bad);
+        } else if (row == 1) {
+          ImGui::Text("%s .. %s", ax.min ? fmt::num(*ax.min).c_str() : "-inf", ax.max ? fmt::num(*ax.max).c_str() : "+inf");
+        } else if (row == 2) cell(pk.vel, ax.vel);
+        else if (row == 3) cell(pk.acc, ax.acc);
+        else cell(pk.jerk, ax.jerk);
+      }
     }
     ImGui::EndTable();
+  }
+  for (const AxisSpec& ax : s.axes) {
+    if (!ax.min && !ax.max) unchecked.push_back(ax.name + " travel");
+    if (!ax.vel) unchecked.push_back(ax.name + " vel");
+    if (!ax.acc) unchecked.push_back(ax.name + " acc");
+    if (!ax.jerk) unchecked.push_back(ax.name + " jerk");
   }
   if (!unchecked.empty()) {
     std::string list;
@@ -206,7 +220,9 @@ void App::report_tab() {
   ImGui::Spacing();
   if (r.violations.empty()) ImGui::TextColored(ImColor(col::kOk), "violations: none");
   else {
-    ImGui::TextColored(ImColor(col::kBad), "violations (%zu): click one to move the playhead to its peak", r.violations.size());
+    ImGui::TextColored(ImColor(col::kBad), "violations (%zu):", r.violations.size());
+    ImGui::SameLine();
+    ImGui::TextColored(ImColor(col::kTextDim), "click one to move the playhead to its peak");
     ImGuiListClipper clip;
     clip.Begin(int(r.violations.size()));
     while (clip.Step())
@@ -218,7 +234,7 @@ void App::report_tab() {
         if (v.quantity == Quantity::kPos) how = std::string(v.peak > v.limit ? "above max " : "below min ") + fmt::num(v.limit);
         else how = "limit " + fmt::num(v.limit) + ", " + fmt::num(100.0 * v.peak / v.limit, 4) + "%";
         const std::string line = ax.name + " " + to_string(v.quantity) + "  t " + fmt::num(v.t_start, 7) + " .. " +
-                                 fmt::num(v.t_end, 7) + " s  peak " + fmt::num(v.peak) + " " + pad_unit(ax, per) + " at t " +
+                                 fmt::num(v.t_end, 7) + " s\n    peak " + fmt::num(v.peak) + " " + pad_unit(ax, per) + " at t " +
                                  fmt::num(v.t_peak, 7) + " s  (" + how + ")";
         ImGui::PushID(i);
         const bool here = t_ >= v.t_start && t_ <= v.t_end;

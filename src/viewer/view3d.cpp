@@ -468,9 +468,10 @@ void App::view_panel(const ImVec2& pos, const ImVec2& size) {
     const ImVec2 hs = ImGui::CalcTextSize(hi_lab.c_str());
     (void)hs;
     dl->AddText({l0.x + 14.0f, ly + lh + 1}, col::kTextDim, ("..  " + hi_lab).c_str());
+    const char* hint = is_3d() ? "drag: orbit | right: pan | wheel: zoom | handle: move" : "drag: pan | wheel: zoom | handle: move";
     ImGui::SameLine(lw + 230.0f);
-    ImGui::TextColored(ImColor(col::kTextDim), is_3d() ? "drag: orbit | right: pan | wheel: zoom | handle: move"
-                                                       : "drag: pan | wheel: zoom | handle: move");
+    if (ImGui::GetContentRegionAvail().x >= ImGui::CalcTextSize(hint).x) ImGui::TextColored(ImColor(col::kTextDim), "%s", hint);
+    else ImGui::NewLine();
   }
   if (!doc_.load_error().empty())
     ImGui::TextColored(ImColor(col::kBad), "%s\nFix the file and press R to reload.", doc_.load_error().c_str());
