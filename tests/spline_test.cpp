@@ -489,8 +489,7 @@ TEST_CASE("spline: C0, C1, C2 at interior knots for every end condition, C3 at u
       const CubicSpline s = random_spline(rng, points, 3, e, &u, &q);
       // Interpolation: the waypoints exactly at the knots.
       // Interpolation: the waypoints exactly at the knots (c0 of each piece and the end value).
-      for (Index i = 0; i < points; ++i)
-        for (Index a = 0; a < 3; ++a) CHECK(s.eval(u[i], a) == q(i, a));
+      c2path::test::check_interpolates(s, u, q);
       c2path::test::check_c2(s);
       if (e == EndCondition::kNotAKnot && points >= 4)
         for (Index a = 0; a < 3; ++a) {
@@ -684,14 +683,8 @@ TEST_CASE("spline: derivatives agree with finite differences", "[spline]") {
       // Stay inside one piece (or the extrapolated end cubics) so that q''' is continuous there.
       if ((p > 0 && x - eps <= u[p]) || (p + 1 < s.pieces() && x + eps >= u[p + 1])) continue;
       ++checked;
-      for (Index a = 0; a < 2; ++a)
-        for (int d = 1; d <= 3; ++d) {
-          const double fd = (s.eval(x + eps, a, d - 1) - s.eval(x - eps, a, d - 1)) / (2.0 * eps);
-          double scale = 1.0;
-          for (Index i = 0; i < s.pieces(); ++i) scale = std::max(scale, std::abs(s.eval_piece(i, u[i], a, d)));
-          INFO(end_name(e) << ", axis " << a << ", derivative " << d << ", u = " << x);
-          C2PATH_CHECK_NEAR("derivative vs finite difference", checked, s.eval(x, a, d), fd, 0.0, 1e-6 * scale);
-        }
+      INFO(end_name(e));
+      c2path::test::check_fd_derivatives(s, x, eps, 1e-6);
       for (Index a = 0; a < 2; ++a) CHECK(s.eval(x, a, 4) == 0.0);
     }
   }
@@ -954,4 +947,85 @@ TEST_CASE("spline: the fit is linear in the data and shift invariant in the para
       }
     }
   }
+}
+
+TEST_CASE("spline: every axis count gives the per-axis splines; strided input", "[spline]") {
+  // Fact: the axes are independent; the fit solves them together (with code specialised for 1, 2,
+  // 3, 4 and 6 axes and a general path), so an m-axis spline equals m one-axis splines.
+  std::mt19937_64 rng(21);
+  for (EndCondition e : {EndCondition::kNotAKnot, EndCondition::kNatural, EndCondition::kClamped, EndCondition::kPeriodic})
+    for (Index axes : {1, 2, 3, 4, 5, 6, 7, 9})
+      for (Index points : {2, 3, 4, 11}) {
+        if (e == EndCondition::kPeriodic && points == 2) continue;
+        const Eigen::VectorXd u = uneven_knots(rng, points);
+        Eigen::MatrixXd q = random_points(rng, points, axes);
+        if (e == EndCondition::kPeriodic) q.row(points - 1) = q.row(0);
+        const Eigen::VectorXd v0 = random_points(rng, 1, axes).transpose(), v1 = random_points(rng, 1, axes).transpose();
+        const SplineOptions o = e == EndCondition::kClamped ? clamped(v0, v1) : ends(e);
+        const CubicSpline all = CubicSpline::fit(u, q, o);
+        // The same data as a block of a larger matrix (outer stride != rows).
+        Eigen::MatrixXd big = Eigen::MatrixXd::Constant(points + 5, axes + 1, 1e300);
+        big.block(2, 1, points, axes) = q;
+        const CubicSpline strided = CubicSpline::fit(u, big.block(2, 1, points, axes), o);
+        for (Index a = 0; a < axes; ++a) {
+          SplineOptions oa = o;
+          if (e == EndCondition::kClamped) oa = clamped(v0.segment(a, 1), v1.segment(a, 1));
+          const CubicSpline one = CubicSpline::fit(u, q.col(a), oa);
+          for (Index p = 0; p < all.pieces(); ++p)
+            for (int k = 0; k < 4; ++k) {
+              INFO(end_name(e) << ", " << axes << " axes, " << points << " points, axis " << a << ", piece " << p);
+              C2PATH_CHECK_NEAR("m axes vs one axis", k, all.coeff(p, a, k), one.coeff(p, 0, k), 1e-14, 1e-14);
+              CHECK(strided.coeff(p, a, k) == all.coeff(p, a, k));
+            }
+        }
+      }
+}
+
+TEST_CASE("spline: large splines (bulk storage) agree with GSL and copy correctly", "[spline][gsl]") {
+  // Source: GSL 2.7 gsl_interp_cspline. 300001 points: the coefficients (9.6 MB) live in the
+  // huge-page bulk storage of detail::BulkAllocator.
+  gsl_set_error_handler_off();
+  const Index points = 300001;
+  std::mt19937_64 rng(22);
+  const Eigen::VectorXd u = uneven_knots(rng, points, 0.5, 1.5);
+  Eigen::MatrixXd q(points, 1);
+  std::uniform_real_distribution<double> dq(-1.0, 1.0);
+  q(0, 0) = 0.0;
+  for (Index i = 1; i < points; ++i) q(i, 0) = q(i - 1, 0) + dq(rng);
+  CubicSpline s = CubicSpline::fit(u, q, ends(EndCondition::kNatural));
+  const CubicSpline copy = s;  // NOLINT(performance-unnecessary-copy-initialization): the copy is tested
+  std::vector<double> x(u.data(), u.data() + points), y(q.data(), q.data() + points);
+  GslSpline g(gsl_interp_cspline, x, y);
+  REQUIRE(g.status == GSL_SUCCESS);
+  double scale[3] = {0.0, 0.0, 0.0};
+  std::vector<double> queries;
+  for (Index i = 0; i < points; i += 997) queries.push_back(u[i] + 0.3 * (u[std::min(i + 1, points - 1)] - u[i]));
+  for (int d = 0; d <= 2; ++d)
+    for (double t : queries) scale[d] = std::max(scale[d], std::abs(g.eval(t, d)));
+  CubicSpline::Cursor cur(copy);
+  for (std::size_t k = 0; k < queries.size(); ++k)
+    for (int d = 0; d <= 2; ++d) {
+      const double ref = g.eval(queries[k], d);
+      C2PATH_CHECK_NEAR("large spline vs GSL", k, s.eval(queries[k], 0, d), ref, 0.0, 1e-12 * scale[d]);
+      CHECK(cur.eval(queries[k], 0, d) == s.eval(queries[k], 0, d));
+    }
+  // Moving keeps the storage.
+  const double* before = s.coeffs(0, 0);
+  const CubicSpline moved = std::move(s);
+  CHECK(moved.coeffs(0, 0) == before);
+  CHECK(moved.eval(u[points - 1], 0) == q(points - 1, 0));
+}
+
+TEST_CASE("spline: overflowing steps or slopes are an error", "[spline]") {
+  // Finite data whose differences overflow (u from -1e308 to 1e308, or q jumping by 2e308).
+  Eigen::MatrixXd q(3, 1);
+  q << 0.0, 1.0, 2.0;
+  CHECK_THROWS_WITH(CubicSpline::fit(vec({-1e308, 1e308, 1.5e308}), q), Contains("overflow"));
+  q << -1e308, 1e308, 0.0;
+  CHECK_THROWS_WITH(CubicSpline::fit(vec({0.0, 1.0, 2.0}), q), Contains("overflow"));
+  CHECK_THROWS_WITH(CubicSpline::fit(vec({0.0, 1.0, 2.0}), q, ends(EndCondition::kNatural)), Contains("overflow"));
+  // Large but representable data is fine.
+  q << -1e300, 1e300, 0.0;
+  const CubicSpline s = CubicSpline::fit(vec({0.0, 1.0, 2.0}), q);
+  CHECK(s.eval(1.0, 0) == 1e300);
 }

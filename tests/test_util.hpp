@@ -44,4 +44,29 @@ inline void check_c2(const CubicSpline& s, double rel = 1e-10) {
   }
 }
 
+/// The spline passes through the points exactly: q(u_i) == q_i bit for bit (u: n+1, q: (n+1) x axes).
+inline void check_interpolates(const CubicSpline& s, const Eigen::Ref<const Eigen::VectorXd>& u,
+                               const Eigen::Ref<const Eigen::MatrixXd>& q) {
+  for (Index i = 0; i < u.size(); ++i)
+    for (Index a = 0; a < s.axes(); ++a) {
+      INFO("interpolation at point " << i << ", axis " << a);
+      CHECK(s.eval(u[i], a) == q(i, a));
+    }
+}
+
+/// Derivatives 1..3 at u agree with central differences of the derivative below, step `step`
+/// (keep u at least `step` away from breakpoints for the third derivative), to `rel` times the
+/// largest |derivative| at the breakpoints.
+inline void check_fd_derivatives(const CubicSpline& s, double u, double step = 1e-5, double rel = 1e-6) {
+  for (Index a = 0; a < s.axes(); ++a)
+    for (int d = 1; d <= 3; ++d) {
+      const double fd = (s.eval(u + step, a, d - 1) - s.eval(u - step, a, d - 1)) / (2.0 * step);
+      double scale = 1.0;
+      for (Index i = 0; i < s.pieces(); ++i)
+        scale = std::max(scale, std::abs(s.eval_piece(i, s.breaks()[std::size_t(i)], a, d)));
+      INFO("derivative " << d << " of axis " << a << " at u = " << u);
+      C2PATH_CHECK_NEAR("derivative vs central difference", d, s.eval(u, a, d), fd, 0.0, rel * scale);
+    }
+}
+
 }  // namespace c2path::test
