@@ -75,8 +75,8 @@ Columns parse_columns(std::string_view text) {
 
 void ExportOptions::validate() const {
   if (exact_rate) {
-    if (!(exact_rate->num > 0 && exact_rate->den > 0 && exact_rate->den <= 1'000'000))
-      throw Error("export: an exact rate needs a positive numerator and a denominator in 1..1000000");
+    if (!(exact_rate->num > 0 && exact_rate->den > 0 && exact_rate->den <= 1'000'000'000'000))
+      throw Error("export: an exact rate needs a positive numerator and a denominator in 1..10^12");
   } else if (!(std::isfinite(rate_hz) && rate_hz > 0.0)) {
     throw Error("export: the rate must be a positive number of Hz");
   }
@@ -126,6 +126,15 @@ std::optional<Rational> exact_of(const ExportOptions& o) {
 }
 }  // namespace
 
+namespace {
+// k * den must stay an exact 64-bit integer for every sample k.
+void check_exact(const SampleGrid& g) {
+  if (g.exact && double(g.count) * double(g.exact->den) > 9e18)
+    throw Error("export: the sample times k * " + std::to_string(g.exact->den) + " / " + std::to_string(g.exact->num) +
+                " do not fit 64-bit integers for this move; choose a rounder spacing");
+}
+}  // namespace
+
 SampleGrid sample_grid(double t_begin, double t_end, const ExportOptions& o) {
   SampleGrid g;
   g.t_begin = t_begin;
@@ -135,6 +144,7 @@ SampleGrid sample_grid(double t_begin, double t_end, const ExportOptions& o) {
   g.end_sample = !(o.frames || o.time == TimeColumn::kIndex);
   if (g.end_sample) {
     g.count = sample_count(t_begin, t_end, g.rate_hz);
+    check_exact(g);
     return g;
   }
   const double span = (t_end - t_begin) * g.rate_hz;
@@ -143,6 +153,7 @@ SampleGrid sample_grid(double t_begin, double t_end, const ExportOptions& o) {
     throw Error("export: " + std::to_string(std::llround(span)) + " samples is more than the " +
                 std::to_string(kMaxExportSamples) + " one export may write; lower the rate");
   g.count = std::size_t(std::floor(span + 1e-9)) + 1;  // grid points 0..K, the last at or before the end
+  check_exact(g);
   return g;
 }
 
