@@ -53,6 +53,15 @@ class App {
   [[nodiscard]] const std::vector<Backdrop>& backdrops() const { return backdrops_; }
   /// Counts of the last frame for measurements: samples, path segments after thinning, handles.
   [[nodiscard]] std::string stats() const;
+  // For the scripted UI self-test (--selftest-ui): where things were drawn last frame.
+  /// Screen position of waypoint k's handle (last frame), or (-1, -1).
+  [[nodiscard]] ImVec2 handle_pos(std::size_t k) const { return k < handle_proj_.size() ? handle_proj_[k] : ImVec2(-1, -1); }
+  [[nodiscard]] Rect first_plot_cell() const { return first_cell_; }
+  [[nodiscard]] double playhead() const { return t_; }
+  [[nodiscard]] double plot_t0() const { return tv0_; }
+  [[nodiscard]] double plot_t1() const { return tv1_; }
+  [[nodiscard]] bool playing() const { return playing_; }
+  [[nodiscard]] int selected() const { return selected_; }
   /// Frame time shown in the View tab [ms].
   void set_frame_ms(double ms) { frame_ms_ = ms; }
 
@@ -152,6 +161,7 @@ class App {
   std::vector<std::size_t> col_index_;  // first sample index of each pixel column (envelope mode)
   std::vector<double> zoom_vals_;       // exact values per pixel column when zoomed in: [(j * axes + a) * 4 + d]
   bool zoomed_ = false;
+  Rect first_cell_;
   int plot_cols_ = 0;
 
   // side panel

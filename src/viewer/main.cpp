@@ -29,6 +29,7 @@
 
 #include "app.hpp"
 #include "document.hpp"
+#include "selftest.hpp"
 #include "style.hpp"
 
 namespace {
@@ -50,7 +51,7 @@ struct Args {
   std::string scene, screenshot, tab, colour = "limit";
   int frames = -1, width = 1280, height = 800;
   double time_s = -1.0;
-  bool timing = false, check_pixels = false, edit_each_frame = false;
+  bool timing = false, check_pixels = false, edit_each_frame = false, selftest_ui = false;
 };
 
 const char* kUsage =
@@ -65,6 +66,7 @@ const char* kUsage =
     "  --colour limit|speed   what the path is coloured by\n"
     "  --timing               print mean and max frame time at exit\n"
     "  --check-pixels         with --screenshot: fail (exit 3) unless the PNG shows a path and plots\n"
+    "  --selftest-ui          with --screenshot: script mouse and keys (drag, undo, scrub, play, add, delete)\n"
     "  --edit-each-frame      measurement: move the middle waypoint a little every frame (re-plans each frame)\n"
     "  --help, --version\n";
 
@@ -178,6 +180,8 @@ int main(int argc, char** argv) {
       a.colour = v;
     } else if (s == "--timing") {
       a.timing = true;
+    } else if (s == "--selftest-ui") {
+      a.selftest_ui = true;
     } else if (s == "--edit-each-frame") {
       a.edit_each_frame = true;
     } else if (s == "--check-pixels") {
@@ -193,7 +197,10 @@ int main(int argc, char** argv) {
   if (a.scene.empty()) return usage_error("a scene file is required");
   if (a.check_pixels && a.screenshot.empty()) return usage_error("--check-pixels needs --screenshot");
   const bool headless = !a.screenshot.empty();
+  if (a.selftest_ui && !headless) return usage_error("--selftest-ui needs --screenshot");
   if (headless && a.frames < 0) a.frames = 3;
+  if (a.selftest_ui) a.frames = std::max(a.frames, UiSelfTest::kFrames);
+  UiSelfTest selftest;
 
   // The software renderer allocates vertex storage of a few MB every frame; keep such blocks in
   // the heap instead of mapping and zeroing fresh pages each time (measured: a third of a frame).
@@ -260,8 +267,10 @@ int main(int argc, char** argv) {
     ImGui_ImplOpenGL3_NewFrame();
     ImGui_ImplGlfw_NewFrame();
     if (headless) io.MousePos = ImVec2(-FLT_MAX, -FLT_MAX);  // no hover effects in screenshots
+    if (a.selftest_ui) selftest.input(frame, io, app, doc);
     ImGui::NewFrame();
     app.frame(headless ? 1.0 / 60.0 : std::min(dt, 0.1));
+    if (a.selftest_ui) selftest.check(frame, app, doc);
     const auto t1 = Clock::now();
     ImGui::Render();
     int fw = 0, fh = 0;
@@ -306,6 +315,11 @@ int main(int argc, char** argv) {
       }
     }
     glfwSwapBuffers(win);
+  }
+  if (a.selftest_ui) {
+    for (const auto& f : selftest.failures()) std::fprintf(stderr, "c2path-view: ui self-test failed: %s\n", f.c_str());
+    if (selftest.ok()) std::printf("ui self-test ok: %d checks\n", selftest.checks());
+    else rc = 4;
   }
   if (a.timing && !frame_ms.empty()) {
     // The first frames build fonts and sample the plan: reported apart.

@@ -266,6 +266,7 @@ void App::plots_panel(const ImVec2& pos, const ImVec2& size) {
       }
     }
   }
+  first_cell_ = first_cell;
   const ImVec2 wmin = ImGui::GetWindowPos(), wsize = ImGui::GetWindowSize();
   plot_rect_ = {{g0.x + gutter, std::max(g0.y + head, wmin.y)},
                 {g0.x + gutter + float(nd) * (cell_w + gap), std::min(g0.y + content_h - foot, wmin.y + wsize.y)}};
