@@ -182,6 +182,34 @@ TEST_CASE("cli: check exits 0 within limits, 1 with violations, 2 for bad input"
   CHECK(r.err.find((d / "missing.yaml").string() + ": error: ") == 0);
 }
 
+TEST_CASE("cli: the table marks a bound with ! only when check reports a violation", "[cli]") {
+  TempDir d;
+  // A symmetric bump (0, 0), (0.1, 0.7), (0.2, 0): not-a-knot gives the parabola with its top at
+  // the middle waypoint, exactly at max 0.7 (hand). Rounding puts the computed top a few ulp above
+  // 0.7, well inside the check's tolerance: exit 0, and the travel cell carries no "!".
+  write_file(d / "top.yaml",
+             "format: 1\nrig:\n  axes:\n    - {name: x, min: -1, max: 0.7}\n"
+             "waypoints:\n  - {t: 0, x: 0}\n  - {t: 0.1, x: 0.7}\n  - {t: 0.2, x: 0}\n");
+  Run r = run_cli(d, "check " + q(d / "top.yaml"));
+  CHECK(r.rc == 0);
+  std::string row;
+  for (const auto& line : lines_of(r.out))
+    if (line.rfind("x ", 0) == 0) row = line;
+  INFO(r.out);
+  REQUIRE(!row.empty());
+  CHECK(row.find('!') == std::string::npos);
+  // Just beyond the tolerance (max 0.7 - 1e-6 with a span of 1.7): marked and exit 1.
+  write_file(d / "over.yaml",
+             "format: 1\nrig:\n  axes:\n    - {name: x, min: -1, max: 0.699999}\n"
+             "waypoints:\n  - {t: 0, x: 0}\n  - {t: 0.1, x: 0.7}\n  - {t: 0.2, x: 0}\n");
+  r = run_cli(d, "check " + q(d / "over.yaml"));
+  CHECK(r.rc == 1);
+  row.clear();
+  for (const auto& line : lines_of(r.out))
+    if (line.rfind("x ", 0) == 0) row = line;
+  CHECK(row.find(" !") != std::string::npos);
+}
+
 TEST_CASE("cli: bad input gives one line FILE:LINE:COL: error: ...", "[cli]") {
   TempDir d;
   struct Case {
