@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstring>
 #include <exception>
+#include <memory>
 #include <thread>
 
 #include "c2path/error.hpp"
@@ -193,8 +194,21 @@ constexpr double kMaxExactCount = 9007199254740992.0;  // 2^53: integers beyond 
 // Rows per block: a block is formatted into its own buffer (by one thread) and then written whole.
 constexpr std::size_t kBlockRows = 4096;
 
-// Formats rows of one export into a buffer through a pointer (room for row_max bytes per row is
-// made before each row, so no per-number growth checks).
+// A block's bytes: allocated once at its largest size and reused, never zero-filled.
+struct Block {
+  std::unique_ptr<char[]> data;
+  std::size_t capacity = 0, size = 0;
+  void reserve(std::size_t n) {
+    if (n > capacity) {
+      data = std::make_unique_for_overwrite<char[]>(n);
+      capacity = n;
+    }
+  }
+  [[nodiscard]] std::string_view view() const { return {data.get(), size}; }
+};
+
+// Formats rows of one export into a block through a pointer (the block has room for row_max bytes
+// per row, so there are no per-number growth checks).
 class RowFormatter {
  public:
   RowFormatter(const Trajectory& tr, const std::vector<std::string>& names, const ExportOptions& o, const SampleGrid& g,
@@ -217,11 +231,11 @@ class RowFormatter {
   }
   [[nodiscard]] std::size_t row_max() const { return row_max_; }
 
-  // Appends rows [k0, k1) to out.
-  void rows(std::size_t k0, std::size_t k1, std::string& out) const {
+  // Formats rows [k0, k1) into out.
+  void rows(std::size_t k0, std::size_t k1, Block& out) const {
     Eigen::MatrixXd st(m_, 4);
-    out.resize((k1 - k0) * row_max_);
-    char* p = out.data();
+    out.reserve((k1 - k0) * row_max_);
+    char* p = out.data.get();
     for (std::size_t k = k0; k < k1; ++k) {
       const double t = g_.time(k);
       tr_.eval_all(t, st);
@@ -274,7 +288,7 @@ class RowFormatter {
       if (jsonl_) *p++ = '}';
       *p++ = '\n';
     }
-    out.resize(std::size_t(p - out.data()));
+    out.size = std::size_t(p - out.data.get());
   }
 
  private:
@@ -314,21 +328,21 @@ ExportResult write_export(const Trajectory& tr, const std::vector<std::string>& 
   const unsigned hw = std::thread::hardware_concurrency();
   const std::size_t workers = std::clamp<std::size_t>(hw == 0 ? 1 : hw, 1, 4);
   if (workers == 1 || blocks < 4) {
-    std::string buf;
+    Block buf;
     for (std::size_t b = 0; b < blocks; ++b) {
       const auto [k0, k1] = block_range(b);
       fmt.rows(k0, k1, buf);
-      sink(buf);
+      sink(buf.view());
       if (o.progress) o.progress(k1, g.count);
     }
   } else {
-    std::vector<std::string> bufs[2] = {std::vector<std::string>(workers), std::vector<std::string>(workers)};
+    std::vector<Block> bufs[2] = {std::vector<Block>(workers), std::vector<Block>(workers)};
     std::vector<std::exception_ptr> errors(workers);
-    auto format_batch = [&](std::size_t batch, std::vector<std::string>& out) {
+    auto format_batch = [&](std::size_t batch, std::vector<Block>& out) {
       std::vector<std::thread> threads;
       for (std::size_t w = 0; w < workers; ++w) {
         const std::size_t b = batch * workers + w;
-        out[w].clear();
+        out[w].size = 0;
         if (b >= blocks) break;
         threads.emplace_back([&, b, w] {
           try {
@@ -353,7 +367,8 @@ ExportResult write_export(const Trajectory& tr, const std::vector<std::string>& 
     for (std::size_t batch = 0; batch < batches; ++batch) {
       if (batch + 1 < batches) running = format_batch(batch + 1, bufs[(batch + 1) % 2]);
       try {
-        for (const auto& s : bufs[batch % 2]) sink(s);
+        for (const auto& s : bufs[batch % 2])
+          if (s.size) sink(s.view());
       } catch (...) {
         for (auto& t : running) t.join();
         throw;
