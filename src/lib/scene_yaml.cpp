@@ -112,9 +112,36 @@ class Loader {
         if (valid.empty()) fail(k, where + ": unexpected key '" + name + "'");
         fail(k, where + ": unknown key '" + name + "'; did you mean '" + nearest(name, valid) + "'? (valid: " + join(valid) + ")");
       }
+      // yaml-cpp marks an empty value ("vel:" at the end of a line) where the next token starts,
+      // often on the next line; point at the key instead. No value of format 1 may be empty.
+      if (it->second.IsNull())
+        fail(k, where + ": '" + name + "' has no value; write one after the ':'");
       out.emplace_back(name, it->second);
     }
     return out;
+  }
+
+  // Where an empty list entry ("-" with nothing after it) is: yaml-cpp marks it at the next token,
+  // so walk back from there over blanks and comments to its '-'. Falls back to the mark.
+  SourceLoc null_item_loc(const YAML::Node& n) const {
+    const YAML::Mark m = n.Mark();
+    if (m.pos < 0 || std::size_t(m.pos) > text_.size()) return loc_of(n);
+    std::size_t i = std::size_t(m.pos);
+    while (i > 0) {
+      const char c = text_[i - 1];
+      if (c == ' ' || c == '\t' || c == '\n' || c == '\r') { --i; continue; }
+      // Inside a comment? Then continue from the '#' that starts it.
+      const std::size_t line_start = text_.rfind('\n', i - 1) == std::string_view::npos ? 0 : text_.rfind('\n', i - 1) + 1;
+      const std::size_t hash = text_.find('#', line_start);
+      if (hash != std::string_view::npos && hash < i - 1) { i = hash; continue; }
+      break;
+    }
+    if (i == 0 || text_[i - 1] != '-') return loc_of(n);
+    const std::size_t at = i - 1;
+    const std::size_t nl = at == 0 ? std::string_view::npos : text_.rfind('\n', at - 1);
+    const int line = int(std::count(text_.begin(), text_.begin() + std::ptrdiff_t(at), '\n')) + 1;
+    const int col = int(at - (nl == std::string_view::npos ? 0 : nl + 1)) + 1;
+    return {line, col};
   }
 
   double number(const YAML::Node& n, const std::string& what) const {
@@ -171,6 +198,7 @@ class Loader {
   }
 
   Scene load(std::string_view text_in) {
+    text_ = text_in;
     Scene scene;
     scene.file = file_;
     if (text_in.size() > kMaxSceneBytes)
@@ -238,6 +266,7 @@ class Loader {
     if (axes.size() > kMaxAxes) fail(axes, "rig: more than " + std::to_string(kMaxAxes) + " axes");
     for (std::size_t i = 0; i < axes.size(); ++i) {
       const YAML::Node a = axes[i];
+      if (a.IsNull()) fail(null_item_loc(a), "axis " + std::to_string(i + 1) + " is empty; describe it, e.g. {name: pan, unit: deg}");
       const std::string where = "axis " + std::to_string(i + 1);
       expect_map(a, where);
       AxisSpec ax;
@@ -370,6 +399,7 @@ class Loader {
     const std::size_t m = scene.axes.size();
     for (std::size_t k = 0; k < wps.size(); ++k) {
       const YAML::Node w = wps[k];
+      if (w.IsNull()) fail(null_item_loc(w), "waypoint " + std::to_string(k + 1) + " is empty; give its t and every axis");
       const std::string where = "waypoint " + std::to_string(k + 1);
       expect_map(w, where);
       Waypoint wp;
@@ -403,6 +433,7 @@ class Loader {
 
  private:
   std::string file_;
+  std::string_view text_;  // the text being loaded (for null_item_loc)
 };
 
 void put_number(std::string& out, double v) {
