@@ -685,7 +685,14 @@ TEST_CASE("scene: save_scene_file and load_scene_file", "[scene]") {
     CHECK(e.file() == (dir / "missing.yaml").string());
     CHECK(std::string(e.what()).find("cannot open") != std::string::npos);
   }
-  CHECK_THROWS_AS(load_scene_file(dir.string()), Error);
+  // A directory opens as a stream on Linux and reports a huge size: it must be named as a directory.
+  try {
+    (void)load_scene_file(dir.string());
+    FAIL("a directory loaded");
+  } catch (const Error& e) {
+    CHECK(e.file() == dir.string());
+    CHECK(std::string(e.what()).find("is a directory") != std::string::npos);
+  }
   // Errors in a file carry the file's path.
   const std::string bad = (dir / "bad.yaml").string();
   {

@@ -7,6 +7,7 @@
 #include <cmath>
 #include <fstream>
 #include <iostream>
+#include <filesystem>
 #include <iterator>
 #include <map>
 #include <sstream>
@@ -519,6 +520,9 @@ std::string scene_to_yaml(const Scene& s) {
     o += "  scale: ";
     put_number(o, s.timing.scale);
     o += "\n";
+    std::error_code dir_ec;
+    if (std::filesystem::is_directory(path, dir_ec))
+      throw Error(path, SourceLoc{}, "is a directory, not a scene file; give the path of a .yaml scene");
   }
   o += "waypoints:\n";
   for (const auto& w : s.waypoints) {
