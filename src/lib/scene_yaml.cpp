@@ -464,6 +464,9 @@ Scene load_scene_file(const std::string& path) {
     name = "<stdin>";
     data.assign(std::istreambuf_iterator<char>(std::cin), std::istreambuf_iterator<char>());
   } else {
+    std::error_code dir_ec;
+    if (std::filesystem::is_directory(path, dir_ec))
+      throw Error(path, SourceLoc{}, "is a directory, not a scene file; give the path of a .yaml scene");
     std::ifstream in(path, std::ios::binary);
     if (!in) throw Error(path, SourceLoc{}, "cannot open the scene file (check the path)");
     in.seekg(0, std::ios::end);
@@ -520,9 +523,6 @@ std::string scene_to_yaml(const Scene& s) {
     o += "  scale: ";
     put_number(o, s.timing.scale);
     o += "\n";
-    std::error_code dir_ec;
-    if (std::filesystem::is_directory(path, dir_ec))
-      throw Error(path, SourceLoc{}, "is a directory, not a scene file; give the path of a .yaml scene");
   }
   o += "waypoints:\n";
   for (const auto& w : s.waypoints) {
