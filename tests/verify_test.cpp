@@ -230,6 +230,16 @@ TEST_CASE("verify: a file from a different scene fails", "[verify]") {
     for (const auto& f : r.findings) waypoint |= f.check == "waypoint";
     CHECK(waypoint);
   }
+  SECTION("same axes and waypoints, one keyframe time moved") {
+    std::string yaml = slurp(kSlider);
+    const std::string from = "{t: 5.0, ";
+    REQUIRE(yaml.find(from) != std::string::npos);
+    yaml.replace(yaml.find(from), from.size(), "{t: 5.3, ");
+    const VerifyResult r = verify_text(load_scene_text(yaml, "retimed.yaml"), csv, "slider.csv");
+    REQUIRE_FALSE(r.ok);
+    CHECK(r.findings.front().check == "keyframe");
+    CHECK(r.findings.front().row == 530);  // the row at t = 5.3 s (530 / 100 Hz)
+  }
   SECTION("same axes, different start") {
     std::string yaml = slurp(kSlider);
     const std::string from = "{t: 0.0, track: 0.20";

@@ -17,7 +17,9 @@
 ///   h^3 jerk/12, or h^2 acc/4 when there is no jerk limit; |dv - h (a0 + a1)/2| <= h^2 jerk/4);
 /// - the first row at the first waypoint, the waypoints passed in order, the last row at the last
 ///   waypoint (within the motion possible in one sample spacing: the last row of a frame export may
-///   lie up to one period before the end).
+///   lie up to one period before the end);
+/// - keyframes mode (no holds): at each waypoint's time, the file read linearly between the rows
+///   around it is at that waypoint within h^2/8 * acc (the linear interpolation error bound).
 ///
 /// Tolerance: every position is trusted to e = 64 eps (|q| + |v| |t|) (eps = 2^-52: the exporter's
 /// Horner evaluation and the rounding of the time it is evaluated at; printing is round-trip exact),
@@ -58,7 +60,7 @@ struct Finding {
   std::size_t row = 0;   ///< data row, 0-based (sample index)
   int line = 0;          ///< line in the file, 1-based
   std::string axis;      ///< axis name, empty for whole-row checks
-  std::string check;     ///< "time", "pos", "vel", "acc", "jerk", "vel-column", "acc-column", "jerk-column", "dt", "waypoint", "start", "end", "columns"
+  std::string check;     ///< "time", "pos", "vel", "acc", "jerk", "vel-column", "acc-column", "jerk-column", "dt", "waypoint", "keyframe", "start", "end", "columns"
   std::string message;   ///< human-readable, without the location
 };
 

@@ -63,6 +63,9 @@ struct Verifier::Impl {
 
   // Waypoints: next interior waypoint to match; matching of a row waits for the next row.
   std::size_t next_wp = 1;
+  // Keyframes mode: waypoint k is reached at its time t_k (relative to the first waypoint).
+  bool keyed = false;
+  std::size_t next_key = 1;
   bool pending = false;  // ring holds a row whose waypoint match waits for its successor
   std::size_t last_match_row = 0;
 
@@ -133,6 +136,11 @@ struct Verifier::Impl {
       if (!ax.acc) missing += " acc";
       if (!ax.jerk) missing += " jerk";
       if (!missing.empty()) res.notes.push_back("axis '" + ax.name + "' has no limit for" + missing + ": not checked");
+    }
+    if (s.timing.mode == TimingMode::kKeyframes) {
+      keyed = true;
+      for (const auto& w : s.waypoints) keyed = keyed && w.t && w.hold_s == 0.0;
+      if (!keyed) res.notes.push_back("keyframe times not checked (a waypoint has a hold)");
     }
   }
 
@@ -292,6 +300,7 @@ struct Verifier::Impl {
     // Waypoint matching for the previous row, now that its successor is known.
     if (pending && run >= 2) match(1);
     pending = true;
+    if (keyed && run >= 2) keyframes();
   }
 
   double span(std::size_t a) const {
@@ -337,6 +346,34 @@ struct Verifier::Impl {
       if (!ok) break;
       last_match_row = r.index;
       ++next_wp;
+    }
+  }
+
+  // Keyframes: at each waypoint's time the file, read linearly between the two rows around it, is
+  // at the waypoint within h^2/8 * A (linear interpolation error, A the acceleration bound) plus
+  // round-off. Times are taken relative to the first row, which is the first waypoint's time.
+  void keyframes() {
+    const Row &p = at(1), &r = at(0);
+    const double t0 = scene.waypoints.front().t.value_or(0.0);
+    const double tp = p.t - res.t_first + t0, tr = r.t - res.t_first + t0;
+    while (next_key < scene.waypoints.size() && *scene.waypoints[next_key].t <= tr) {
+      const Waypoint& wk = scene.waypoints[next_key];
+      const double tk = *wk.t;
+      const double h = tr - tp;
+      const double s = std::clamp((tk - tp) / h, 0.0, 1.0);
+      for (std::size_t a = 0; a < m; ++a) {
+        const double lin = p.q[a] + s * (r.q[a] - p.q[a]);
+        const double tol = h * h / 8.0 * acc_bound(a, 0) + trust(1, a) +
+                           kTrust * (std::abs(wk.q[a]) + std::abs(tr) * std::abs(r.q[a] - p.q[a]) / h);
+        if (std::abs(lin - wk.q[a]) > tol) {
+          add(r.index, r.line, scene.axes[a].name, "keyframe",
+              "waypoint " + std::to_string(next_key + 1) + " is keyed at t " + fmt(tk) + " s, where the file is at " + fmt(lin) +
+                  " " + unit(a, 0) + " (linear between rows " + std::to_string(p.index) + " and " + std::to_string(r.index) +
+                  "), the scene says " + fmt(wk.q[a]) + " (allowed " + fmt(tol) + ")");
+          break;
+        }
+      }
+      ++next_key;
     }
   }
 
