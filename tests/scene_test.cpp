@@ -303,6 +303,15 @@ TEST_CASE("scene: YAML syntax errors give the place yaml-cpp stops at", "[scene]
   expect_error(bad_close, place_of(bad_close, "]\n"), "YAML syntax");
   // A tab used for indentation.
   expect_error("format: 1\nrig:\n\taxes: []\n", {3, 6}, "YAML syntax");
+  // Each syntax message says what to do.
+  expect_error("format: 1\nrig:\n\taxes: []\n", {3, 6}, "indent with spaces, not tabs");
+  expect_error("format: 1\nrig: {axes: [{name: x}]\n", {3, 1}, "a '{' is not closed: add the '}'");
+  expect_error("a: [1, 2\n", {2, 1}, "a '[' is not closed: add the ']'");
+  expect_error(bad_close, place_of(bad_close, "]\n"), "check the brackets match");
+  expect_error(bad_indent, place_of(bad_indent, "- {t: 1"), "check the indentation");
+  const std::string esc = "format: 1\nname: \"a\\qb\"\n";
+  // yaml-cpp stops just after the bad escape \q, at the 'b'.
+  expect_error(esc, place_of(esc, "b\""), "write a backslash as");
 }
 
 TEST_CASE("scene: empty input, several documents, unsupported format", "[scene]") {

@@ -55,6 +55,26 @@ std::string join(const std::vector<std::string>& v) {
   return out;
 }
 
+// What to do about yaml-cpp's most common syntax messages (its exceptions.h wording).
+std::string yaml_hint(const std::string& msg) {
+  static const std::pair<const char*, const char*> hints[] = {
+      {"end of map flow not found", "a '{' is not closed: add the '}'"},
+      {"end of sequence flow not found", "a '[' is not closed: add the ']'"},
+      {"illegal flow end", "a ']' or '}' closes nothing here: check the brackets match"},
+      {"end of map not found", "check the indentation: the keys of one mapping start in the same column"},
+      {"end of sequence not found", "check the indentation: the '-' of one list start in the same column"},
+      {"illegal map value", "a ':' is out of place: check the indentation, and quote text that contains ': '"},
+      {"illegal block entry", "a '-' is out of place: check the indentation of the list"},
+      {"tab", "indent with spaces, not tabs"},
+      {"unknown escape character", "in double quotes write a backslash as \\\\, or use single quotes"},
+      {"end of string", "a quote is not closed: add the closing quote"},
+      {"anchor", "check the &anchor and *alias names"},
+  };
+  for (const auto& [key, hint] : hints)
+    if (msg.find(key) != std::string::npos) return std::string("; ") + hint;
+  return "; check the YAML syntax near this place";
+}
+
 class Loader {
  public:
   explicit Loader(std::string file) : file_(std::move(file)) {}
@@ -120,6 +140,20 @@ class Loader {
       out.emplace_back(name, it->second);
     }
     return out;
+  }
+
+  // Whether line `line` (1-based) of the text is indented with a tab (YAML forbids tabs there).
+  bool leading_tab(int line) const {
+    std::size_t pos = 0;
+    for (int k = 1; k < line && pos != std::string_view::npos; ++k) {
+      pos = text_.find('\n', pos);
+      if (pos != std::string_view::npos) ++pos;
+    }
+    for (; pos != std::string_view::npos && pos < text_.size(); ++pos) {
+      if (text_[pos] == '\t') return true;
+      if (text_[pos] != ' ') return false;
+    }
+    return false;
   }
 
   // Where an empty list entry ("-" with nothing after it) is: yaml-cpp marks it at the next token,
@@ -214,7 +248,7 @@ class Loader {
       docs = YAML::LoadAll(std::string(text_in));
     } catch (const YAML::Exception& e) {
       SourceLoc l{e.mark.line >= 0 ? e.mark.line + 1 : 1, e.mark.column >= 0 ? e.mark.column + 1 : 1};
-      fail(l, "YAML syntax: " + e.msg);
+      fail(l, "YAML syntax: " + e.msg + (leading_tab(l.line) ? "; indent with spaces, not tabs" : yaml_hint(e.msg)));
     }
     if (docs.empty() || docs[0].IsNull())
       fail(SourceLoc{1, 1}, "the scene is empty; it needs at least 'format: 1', 'rig' and 'waypoints'");
