@@ -1,13 +1,15 @@
 #include "c2path/scene_yaml.hpp"
 
+#include <yaml-cpp/depthguard.h>
+#include <yaml-cpp/eventhandler.h>
 #include <yaml-cpp/yaml.h>
 
 #include <algorithm>
 #include <charconv>
 #include <cmath>
+#include <filesystem>
 #include <fstream>
 #include <iostream>
-#include <filesystem>
 #include <iterator>
 #include <map>
 #include <sstream>
@@ -39,8 +41,11 @@ std::size_t edit_distance(const std::string& a, const std::string& b) {
 std::string nearest(const std::string& word, const std::vector<std::string>& valid) {
   std::string best;
   std::size_t best_d = std::string::npos;
+  // Only the first 64 characters are compared: a huge unknown key against many long axis names
+  // would otherwise cost their product (minutes for a few MB).
+  const std::string w = word.substr(0, 64);
   for (const auto& v : valid) {
-    const std::size_t d = edit_distance(word, v);
+    const std::size_t d = edit_distance(w, v.substr(0, 64));
     if (d < best_d) {
       best_d = d;
       best = v;
@@ -75,13 +80,35 @@ std::string yaml_hint(const std::string& msg) {
   return "; check the YAML syntax near this place";
 }
 
+// Document starts of a YAML text, from yaml-cpp's event parser, at most `cap` of them. yaml-cpp 0.7
+// loops forever (allocating without bound) in YAML::LoadAll on some malformed inputs, e.g. a ','
+// outside a flow collection: its parser then starts document after document without consuming
+// anything. Here such a repeated start is reported as a syntax error at that place instead.
+class DocumentStarts final : public YAML::EventHandler {
+ public:
+  std::vector<YAML::Mark> starts;
+  void OnDocumentStart(const YAML::Mark& mark) override { starts.push_back(mark); }
+  void OnDocumentEnd() override {}
+  void OnNull(const YAML::Mark&, YAML::anchor_t) override {}
+  void OnAlias(const YAML::Mark&, YAML::anchor_t) override {}
+  void OnScalar(const YAML::Mark&, const std::string&, YAML::anchor_t, const std::string&) override {}
+  void OnSequenceStart(const YAML::Mark&, const std::string&, YAML::anchor_t, YAML::EmitterStyle::value) override {}
+  void OnSequenceEnd() override {}
+  void OnMapStart(const YAML::Mark&, const std::string&, YAML::anchor_t, YAML::EmitterStyle::value) override {}
+  void OnMapEnd() override {}
+};
+
 class Loader {
  public:
   explicit Loader(std::string file) : file_(std::move(file)) {}
 
   // Every message is one line: control characters quoted from the file (a newline inside a
   // quoted key or name) are written as escapes.
-  [[noreturn]] void fail(SourceLoc loc, const std::string& msg) const { throw Error(file_, loc, one_line(msg)); }
+  [[noreturn]] void fail(SourceLoc loc, const std::string& msg) const {
+    std::string line = one_line(msg);
+    if (line.size() > 1000) line = line.substr(0, 990) + " [...]";  // huge quoted values or key lists
+    throw Error(file_, loc, line);
+  }
 
   static std::string one_line(const std::string& msg) {
     std::string out;
@@ -245,7 +272,31 @@ class Loader {
     }
     std::vector<YAML::Node> docs;
     try {
-      docs = YAML::LoadAll(std::string(text_in));
+      // At most three documents are looked at: a second one is an error, and a start that does
+      // not move on from the previous one is the parser stuck on a stray token (see DocumentStarts).
+      const std::string yaml_text(text_in);
+      std::istringstream in(yaml_text);
+      YAML::Parser parser(in);
+      DocumentStarts ds;
+      while (ds.starts.size() < 3 && parser.HandleNextDocument(ds)) {
+        const std::size_t k = ds.starts.size();
+        if (k >= 2 && ds.starts[k - 1].pos == ds.starts[k - 2].pos) {
+          const YAML::Mark m = ds.starts[k - 1];
+          const std::size_t pos = std::size_t(std::max(m.pos, 0));
+          const std::string what = pos < yaml_text.size() ? "'" + std::string(1, yaml_text[pos]) + "'" : "end of file";
+          fail(SourceLoc{m.line + 1, m.column + 1}, "YAML syntax: unexpected " + what +
+                                                        " (a ',' belongs inside [ ] or { }; quote text that contains one)");
+        }
+      }
+      if (ds.starts.size() > 1) {
+        const YAML::Mark m = ds.starts[1];
+        fail(SourceLoc{m.line + 1, m.column + 1}, "the file holds more than one YAML document; a scene is a single document");
+      }
+      docs.push_back(YAML::Load(yaml_text));
+    } catch (const YAML::DeepRecursion& e) {
+      // yaml-cpp's own guard against stack exhaustion (its message reads "bad file").
+      fail(SourceLoc{e.mark.line >= 0 ? e.mark.line + 1 : 1, e.mark.column >= 0 ? e.mark.column + 1 : 1},
+           "YAML syntax: nested too deeply (a scene needs only a few levels of lists and mappings)");
     } catch (const YAML::Exception& e) {
       SourceLoc l{e.mark.line >= 0 ? e.mark.line + 1 : 1, e.mark.column >= 0 ? e.mark.column + 1 : 1};
       fail(l, "YAML syntax: " + e.msg + (leading_tab(l.line) ? "; indent with spaces, not tabs" : yaml_hint(e.msg)));
@@ -284,6 +335,7 @@ class Loader {
           scene.exports.rate_hz = number(v, "export: 'rate'");
           scene.exports.rate_loc = loc_of(v);
           if (!(*scene.exports.rate_hz > 0.0)) fail(v, "export: 'rate' must be greater than 0 Hz");
+          if (*scene.exports.rate_hz > 1e7) fail(v, "export: 'rate' must be at most 10 MHz (1e7 Hz)");
         }
       }
     }
@@ -496,7 +548,11 @@ Scene load_scene_file(const std::string& path) {
   std::string name = path;
   if (path == "-") {
     name = "<stdin>";
-    data.assign(std::istreambuf_iterator<char>(std::cin), std::istreambuf_iterator<char>());
+    // Read at most one byte past the cap: an endless stream must not fill the memory.
+    char chunk[65536];
+    while (data.size() <= kMaxSceneBytes && std::cin.read(chunk, sizeof chunk).gcount() > 0)
+      data.append(chunk, std::size_t(std::cin.gcount()));
+    if (data.size() > kMaxSceneBytes) throw Error(name, SourceLoc{1, 1}, "the input is larger than 64 MiB; this is not a scene");
   } else {
     std::error_code dir_ec;
     if (std::filesystem::is_directory(path, dir_ec))
