@@ -67,6 +67,9 @@ struct Report {
   double stretch = 1.0;
   bool pos_violation = false;  ///< some axis leaves its travel range
   bool exact = true;           ///< peaks and intervals come from exact piecewise-polynomial analysis
+  /// Sampled checks (exact == false): bound on how far any quantity may lie beyond what the
+  /// samples and their Hermite interpolants show, as a fraction of its limit (0 when exact).
+  double sample_bound = 0.0;
   std::vector<AxisPeaks> peaks;         ///< one per axis
   std::vector<Violation> violations;    ///< sorted by t_start, then axis, then quantity
   std::string message;                  ///< one-line summary

@@ -85,6 +85,29 @@ void print_stretch(std::FILE* out, const Loaded& l) {
   if (r.pos_violation) std::fprintf(out, "note: slowing down cannot fix a position (travel) violation; move the waypoints\n");
 }
 
+// Duration mode: the shortest feasible duration; fastest mode: grid, stretch and binding intervals.
+static void print_timing(std::FILE* out, const Loaded& l) {
+  const Plan& p = l.plan;
+  if (const auto T = shortest_duration(p, l.report))
+    std::fprintf(out, "shortest feasible duration: %s s (requested %s s, holds %s s)\n", num(*T).c_str(),
+                 num(l.report.duration).c_str(), num(p.hold_total_s).c_str());
+  if (p.mode != TimingMode::kFastest) return;
+  std::fprintf(out, "fastest plan: %zu grid points, scale %s%s\n", p.grid_points, num(l.scene.timing.scale).c_str(),
+               p.fastest_stretch > 1.0 ? (", stretched by " + num(p.fastest_stretch) + " after the repairs").c_str() : "");
+  if (p.binding.empty()) {
+    std::fprintf(out, "binding: none\n");
+    return;
+  }
+  std::fprintf(out, "binding (%zu intervals, at >= 99%% of scale x limit):\n", p.binding.size());
+  const std::size_t shown = std::min<std::size_t>(p.binding.size(), 40);
+  for (std::size_t k = 0; k < shown; ++k) {
+    const Binding& b = p.binding[k];
+    std::fprintf(out, "  %s %-4s t %s .. %s s\n", pad(l.scene.axes[std::size_t(b.axis)].name, 8).c_str(), to_string(b.quantity),
+                 num(b.t_start, 7).c_str(), num(b.t_end, 7).c_str());
+  }
+  if (shown < p.binding.size()) std::fprintf(out, "  ... %zu more (see --json)\n", p.binding.size() - shown);
+}
+
 void print_table(const Loaded& l) {
   const Scene& s = l.scene;
   const Report& r = l.report;
@@ -124,6 +147,7 @@ void print_table(const Loaded& l) {
   std::printf("\n");
   print_violations(stdout, l);
   print_stretch(stdout, l);
+  print_timing(stdout, l);
   std::printf("%s\n", r.ok ? "result: within limits" : "result: LIMITS EXCEEDED");
   std::printf("%s\n", kCaution);
 }
@@ -161,6 +185,16 @@ void print_json(const Loaded& l) {
                    {"t_peak", v.t_peak},
                    {"limit", v.limit}});
   j["violations"] = vs;
+  // Timing additions (issue 3): where a fastest plan sits at a limit, and for duration mode the
+  // shortest duration that keeps every limit.
+  J bs = J::array();
+  for (const auto& b : l.plan.binding)
+    bs.push_back(J{{"axis", l.scene.axes[std::size_t(b.axis)].name},
+                   {"quantity", to_string(b.quantity)},
+                   {"t_start", b.t_start},
+                   {"t_end", b.t_end}});
+  j["binding"] = bs;
+  if (const auto T = shortest_duration(l.plan, r)) j["shortest_duration"] = *T;
   std::cout << j.dump() << "\n";
 }
 

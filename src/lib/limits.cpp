@@ -203,57 +203,275 @@ void check_exact(const std::vector<CubicSpline>& pieces, const std::vector<AxisL
   for (auto& st : streams) st.finish(r.violations);
 }
 
-// Trajectories that are not piecewise cubic: dense samples between breakpoints.
+// Trajectories that are not piecewise cubic: samples between the breakpoints, dense enough that
+// what lies between them is bounded.
+//
+// Between two samples a, b = a + h of a quantity f (pos, vel, acc; f' is the next quantity, known
+// at both samples) with |f''| <= M on [a, b]:
+//   f(t) <= min(f(a) + f'(a) s + M s^2 / 2, f(b) - f'(b) (h - s) + M (h - s)^2 / 2),  s = t - a,
+// so f exceeds the larger of the cubic Hermite interpolant's extreme and the samples by at most
+// M h^2 / 8 (the two parabolas meet at most M h^2/8 above the chord of the tangents). For jerk
+// (no next derivative in the Trajectory interface) with |jerk'| <= S: the excess is at most S h / 2.
+// M is the peak |acc| for pos and the peak |jerk| for vel (both from this check); for acc and jerk
+// it is the snap, estimated from divided differences of the sampled jerk (times 2 for safety). The
+// step is chosen per break interval so that the bound is below kSampleTol of each limit (jerk:
+// kSampleTolJerk) (at most
+// kMaxSamples samples in all) and the bound actually reached is reported in Report::sample_bound.
+constexpr double kSampleTol = 1e-6;
+constexpr double kSampleTolJerk = 1e-3;  // jerk: first-order bound, so a looser target
+constexpr std::size_t kMaxSamples = 1'000'000;
+
+struct Samples {
+  std::vector<double> t;
+  std::vector<double> v;            // t.size() x m x 4, sample-major
+  std::vector<std::size_t> first;   // first sample of each break interval (then per[b] more)
+  std::vector<char> inner;          // inner[k]: samples k and k+1 lie in the same break interval
+  std::size_t m = 0;
+  [[nodiscard]] double at(std::size_t k, std::size_t a, int d) const { return v[(k * m + a) * 4 + std::size_t(d)]; }
+};
+
+// per[b] + 1 samples on each break interval [b_k, b_k+1], its ends moved inside by 1e-9 of its
+// length, so that every sample of an interval is evaluated on that interval's side of a break
+// (derivatives may jump at breaks).
+Samples take_samples(const Trajectory& tr, const std::vector<double>& br, const std::vector<std::size_t>& per) {
+  Samples S;
+  S.m = std::size_t(tr.axes());
+  const std::size_t nb = br.size() - 1;
+  for (std::size_t b = 0; b < nb; ++b) {
+    const double len = br[b + 1] - br[b], d = 1e-9 * len;
+    S.first.push_back(S.t.size());
+    for (std::size_t j = 0; j <= per[b]; ++j) {
+      double t = br[b] + len * double(j) / double(per[b]);
+      if (j == 0 && b > 0) t = br[b] + d;
+      if (j == per[b]) t = b + 1 == nb ? br.back() : br[b + 1] - d;
+      S.t.push_back(t);
+      S.inner.push_back(j < per[b] ? 1 : 0);
+    }
+  }
+  S.v.resize(S.t.size() * S.m * 4);
+  Eigen::MatrixXd st(Index(S.m), 4);
+  for (std::size_t k = 0; k < S.t.size(); ++k) {
+    tr.eval_all(S.t[k], st);
+    for (std::size_t a = 0; a < S.m; ++a)
+      for (int d = 0; d < 4; ++d) S.v[(k * S.m + a) * 4 + std::size_t(d)] = st(Index(a), d);
+  }
+  return S;
+}
+
+// Extreme of side * H over [0, h] for the cubic Hermite H with values f0, f1 and slopes g0, g1.
+std::pair<double, double> hermite_extreme(double f0, double g0, double f1, double g1, double h, int side) {
+  // H(s) = f0 + g0 s + c2 s^2 + c3 s^3
+  const double d = (f1 - f0) / h;
+  const double c2 = (3.0 * d - 2.0 * g0 - g1) / h, c3 = (g0 + g1 - 2.0 * d) / (h * h);
+  const double c[4] = {f0, g0, c2, c3};
+  const double dc[3] = {g0, 2.0 * c2, 3.0 * c3};
+  double best = side * f0 >= side * f1 ? f0 : f1, bs = side * f0 >= side * f1 ? 0.0 : h;
+  // Roots of H' = dc[0] + dc[1] s + dc[2] s^2 in (0, h), closed form (stable quadratic formula).
+  double r[2];
+  int nr = 0;
+  if (dc[2] != 0.0) {
+    const double disc = dc[1] * dc[1] - 4.0 * dc[2] * dc[0];
+    if (disc >= 0.0) {
+      const double qq = -0.5 * (dc[1] + std::copysign(std::sqrt(disc), dc[1]));
+      if (qq != 0.0) {
+        r[nr++] = qq / dc[2];
+        r[nr++] = dc[0] / qq;
+      } else {
+        r[nr++] = 0.0;
+      }
+    }
+  } else if (dc[1] != 0.0) {
+    r[nr++] = -dc[0] / dc[1];
+  }
+  for (int k = 0; k < nr; ++k) {
+    if (!(r[k] > 0.0 && r[k] < h)) continue;
+    const double val = detail::poly_eval(c, 3, r[k]);
+    if (side * val > side * best) {
+      best = val;
+      bs = r[k];
+    }
+  }
+  return {best, bs};
+}
+
 void check_sampled(const Trajectory& tr, const std::vector<AxisLimits>& limits, const CheckOptions& o, Report& r) {
   r.exact = false;
   const std::size_t m = limits.size();
   r.peaks.assign(m, AxisPeaks{});
   const std::vector<double> br = tr.breaks();
-  std::vector<double> ts;
-  for (std::size_t k = 0; k + 1 < br.size(); ++k)
-    for (int j = 0; j < o.samples_per_piece; ++j) ts.push_back(br[k] + (br[k + 1] - br[k]) * j / o.samples_per_piece);
-  ts.push_back(br.back());
-  Eigen::MatrixXd st(Index(m), 4);
-  std::vector<Eigen::MatrixXd> vals(ts.size(), Eigen::MatrixXd(Index(m), 4));
-  for (std::size_t k = 0; k < ts.size(); ++k) {
-    tr.eval_all(ts[k], st);
-    vals[k] = st;
+  const std::size_t nb = br.size() - 1;
+  // Pass 1: samples_per_piece per break interval, to estimate the derivative bounds.
+  std::vector<std::size_t> per(nb, std::size_t(o.samples_per_piece));
+  Samples S = take_samples(tr, br, per);
+  auto bounds_per_interval = [&](const Samples& X, const std::vector<std::size_t>& pp, std::vector<double>& acc_pk,
+                                 std::vector<double>& jerk_pk, std::vector<double>& snap) {
+    acc_pk.assign(nb * m, 0.0);
+    jerk_pk.assign(nb * m, 0.0);
+    snap.assign(nb * m, 0.0);
+    for (std::size_t b = 0; b < nb; ++b) {
+      const std::size_t k0 = X.first[b], k1 = k0 + pp[b];  // samples k0..k1 lie in break interval b
+      for (std::size_t a = 0; a < m; ++a) {
+        double A = 0, J = 0, Sn = 0;
+        for (std::size_t k = k0; k <= k1; ++k) {
+          A = std::max(A, std::abs(X.at(k, a, 2)));
+          J = std::max(J, std::abs(X.at(k, a, 3)));
+          if (k < k1) Sn = std::max(Sn, std::abs(X.at(k + 1, a, 3) - X.at(k, a, 3)) / (X.t[k + 1] - X.t[k]));
+        }
+        acc_pk[b * m + a] = A;
+        jerk_pk[b * m + a] = J;
+        snap[b * m + a] = 2.0 * Sn;
+      }
+    }
+  };
+  std::vector<double> acc_pk, jerk_pk, snap;
+  bounds_per_interval(S, per, acc_pk, jerk_pk, snap);
+  // Pass 2: the step each break interval needs for a bound below kSampleTol of every limit.
+  std::size_t total = 0;
+  std::vector<std::size_t> need(nb);
+  for (std::size_t b = 0; b < nb; ++b) {
+    const double len = br[b + 1] - br[b];
+    double n = double(o.samples_per_piece);
+    for (std::size_t a = 0; a < m; ++a) {
+      const AxisLimits& l = limits[a];
+      double span = 1.0;
+      if (l.min && l.max) span = *l.max - *l.min;
+      auto quad = [&](double M, double lim) {  // M h^2 / 8 <= tol * lim
+        if (M > 0 && lim > 0) n = std::max(n, len / std::sqrt(8.0 * 0.5 * kSampleTol * lim / M));
+      };
+      if (l.min || l.max) quad(acc_pk[b * m + a], span);
+      if (l.vel) quad(jerk_pk[b * m + a], *l.vel);
+      if (l.acc) quad(snap[b * m + a], *l.acc);
+      if (l.jerk && snap[b * m + a] > 0) n = std::max(n, len * snap[b * m + a] / (2.0 * 0.5 * kSampleTolJerk * *l.jerk));
+    }
+    need[b] = std::size_t(std::min(std::ceil(n), 1e7));
+    total += need[b];
   }
+  if (total > kMaxSamples) {
+    const double f = double(kMaxSamples) / double(total);
+    for (auto& x : need) x = std::max<std::size_t>(std::size_t(o.samples_per_piece), std::size_t(double(x) * f));
+  }
+  if (need != per) {
+    S = take_samples(tr, br, need);
+    per = need;
+    bounds_per_interval(S, per, acc_pk, jerk_pk, snap);
+  }
+  const std::vector<double>& ts = S.t;
+  // Peaks: samples, refined by the Hermite interpolant between samples (pos, vel, acc).
   for (std::size_t a = 0; a < m; ++a) {
     AxisPeaks& pk = r.peaks[a];
     for (std::size_t k = 0; k < ts.size(); ++k) {
-      const auto& v = vals[k];
-      const Index ia = Index(a);
-      if (k == 0 || v(ia, 0) < pk.pos_min) { pk.pos_min = v(ia, 0); pk.t_pos_min = ts[k]; }
-      if (k == 0 || v(ia, 0) > pk.pos_max) { pk.pos_max = v(ia, 0); pk.t_pos_max = ts[k]; }
-      if (k == 0 || std::abs(v(ia, 1)) > pk.vel) { pk.vel = std::abs(v(ia, 1)); pk.t_vel = ts[k]; }
-      if (k == 0 || std::abs(v(ia, 2)) > pk.acc) { pk.acc = std::abs(v(ia, 2)); pk.t_acc = ts[k]; }
-      if (k == 0 || std::abs(v(ia, 3)) > pk.jerk) { pk.jerk = std::abs(v(ia, 3)); pk.t_jerk = ts[k]; }
+      const double x = S.at(k, a, 0);
+      if (k == 0 || x < pk.pos_min) { pk.pos_min = x; pk.t_pos_min = ts[k]; }
+      if (k == 0 || x > pk.pos_max) { pk.pos_max = x; pk.t_pos_max = ts[k]; }
+      for (int d = 1; d < 4; ++d) {
+        double* peak = d == 1 ? &pk.vel : d == 2 ? &pk.acc : &pk.jerk;
+        double* tp = d == 1 ? &pk.t_vel : d == 2 ? &pk.t_acc : &pk.t_jerk;
+        if (k == 0 || std::abs(S.at(k, a, d)) > *peak) { *peak = std::abs(S.at(k, a, d)); *tp = ts[k]; }
+      }
+    }
+    for (std::size_t b = 0; b < nb; ++b) {
+      const std::size_t k0 = S.first[b], k1 = k0 + per[b];
+      for (std::size_t k = k0; k < k1; ++k) {
+        const double h = ts[k + 1] - ts[k];
+        if (!(h > 0)) continue;
+        for (int d = 0; d < 3; ++d)
+          for (int side : {+1, -1}) {
+            const auto [val, sv] = hermite_extreme(S.at(k, a, d), S.at(k, a, d + 1), S.at(k + 1, a, d), S.at(k + 1, a, d + 1), h, side);
+            const double t = ts[k] + sv;
+            if (d == 0) {
+              if (side > 0 && val > pk.pos_max) { pk.pos_max = val; pk.t_pos_max = t; }
+              if (side < 0 && val < pk.pos_min) { pk.pos_min = val; pk.t_pos_min = t; }
+            } else {
+              double* peak = d == 1 ? &pk.vel : &pk.acc;
+              double* tp = d == 1 ? &pk.t_vel : &pk.t_acc;
+              if (std::abs(val) > *peak) { *peak = std::abs(val); *tp = t; }
+            }
+          }
+      }
     }
   }
+  // The bound on what the samples can miss, as a fraction of each limit.
+  double bound = 0.0;
+  {
+    for (std::size_t b = 0; b < nb; ++b) {
+      const std::size_t k0 = S.first[b], k1 = k0 + per[b];
+      double hmax = 0;
+      for (std::size_t k = k0; k < k1; ++k) hmax = std::max(hmax, ts[k + 1] - ts[k]);
+      for (std::size_t a = 0; a < m; ++a) {
+        const AxisLimits& l = limits[a];
+        const double q = hmax * hmax / 8.0;
+        if (l.min && l.max) bound = std::max(bound, r.peaks[a].acc * q / (*l.max - *l.min));
+        if (l.vel) bound = std::max(bound, r.peaks[a].jerk * q / *l.vel);
+        if (l.acc) bound = std::max(bound, snap[b * m + a] * q / *l.acc);
+        if (l.jerk) bound = std::max(bound, snap[b * m + a] * hmax / 2.0 / *l.jerk);
+      }
+    }
+  }
+  r.sample_bound = bound;
+  // Violations: runs of samples beyond the limit; crossing times by bisection on the Hermite
+  // interpolant (linear for jerk); a run the samples miss but the Hermite extreme shows is kept too.
   std::vector<Stream> streams = make_streams(limits, r.peaks, o.rel_tol);
   for (auto& s : streams) {
     const int d = deriv_of(s.q);
-    auto value = [&](std::size_t k) {
-      const double x = vals[k](s.axis, d);
-      return s.q == Quantity::kPos ? s.side * (x - s.limit) : std::abs(x) - s.limit;
+    const std::size_t a = std::size_t(s.axis);
+    auto excess = [&](double x) { return s.q == Quantity::kPos ? s.side * (x - s.limit) : std::abs(x) - s.limit; };
+    auto interp = [&](std::size_t k, double t) {  // value inside [ts[k], ts[k+1]]
+      const double h = ts[k + 1] - ts[k], x = t - ts[k];
+      if (d == 3 || !(h > 0) || !S.inner[k]) return S.at(k, a, d) + (S.at(k + 1, a, d) - S.at(k, a, d)) * (h > 0 ? x / h : 0.0);
+      const double f0 = S.at(k, a, d), g0 = S.at(k, a, d + 1), f1 = S.at(k + 1, a, d), g1 = S.at(k + 1, a, d + 1);
+      const double dd = (f1 - f0) / h;
+      const double c2 = (3.0 * dd - 2.0 * g0 - g1) / h, c3 = (g0 + g1 - 2.0 * dd) / (h * h);
+      return f0 + x * (g0 + x * (c2 + x * c3));
+    };
+    auto cross = [&](std::size_t k, bool rising) {  // where excess changes sign in [ts[k], ts[k+1]]
+      double lo = ts[k], hi = ts[k + 1];
+      for (int it = 0; it < 60; ++it) {
+        const double mid = 0.5 * (lo + hi);
+        if (mid <= lo || mid >= hi) break;
+        const bool over = excess(interp(k, mid)) > 0;
+        if (over == rising) hi = mid;
+        else lo = mid;
+      }
+      return 0.5 * (lo + hi);
     };
     std::size_t k = 0;
     while (k < ts.size()) {
-      if (value(k) <= 0) { ++k; continue; }
-      const std::size_t k0 = k;
-      double best = -1;
-      std::size_t kb = k;
-      while (k < ts.size() && value(k) > 0) {
-        if (value(k) > best) { best = value(k); kb = k; }
+      if (excess(S.at(k, a, d)) <= 0) {
+        // A bump between two samples below the limit.
+        if (k + 1 < ts.size() && d < 3 && S.inner[k] && excess(S.at(k + 1, a, d)) <= 0 && ts[k + 1] > ts[k]) {
+          const int side = s.q == Quantity::kPos ? s.side : (S.at(k, a, d) + S.at(k + 1, a, d) >= 0 ? +1 : -1);
+          const auto [val, sv] = hermite_extreme(S.at(k, a, d), S.at(k, a, d + 1), S.at(k + 1, a, d), S.at(k + 1, a, d + 1),
+                                                 ts[k + 1] - ts[k], side);
+          if (excess(val) > 0) {
+            const double tp = ts[k] + sv;
+            double lo = ts[k], hi = tp;
+            for (int it = 0; it < 60; ++it) { const double mid = 0.5 * (lo + hi); if (excess(interp(k, mid)) > 0) hi = mid; else lo = mid; }
+            const double t0 = hi;
+            lo = tp; hi = ts[k + 1];
+            for (int it = 0; it < 60; ++it) { const double mid = 0.5 * (lo + hi); if (excess(interp(k, mid)) > 0) lo = mid; else hi = mid; }
+            s.out.push_back({s.axis, s.q, t0, lo, s.q == Quantity::kPos ? val : std::abs(val), tp, s.limit});
+          }
+        }
         ++k;
+        continue;
       }
-      // Crossing times by linear interpolation between samples.
-      double t0 = ts[k0], t1 = ts[k - 1];
-      if (k0 > 0) { const double a0 = value(k0 - 1), a1 = value(k0); t0 = ts[k0 - 1] + (ts[k0] - ts[k0 - 1]) * (-a0) / (a1 - a0); }
-      if (k < ts.size()) { const double a0 = value(k - 1), a1 = value(k); t1 = ts[k - 1] + (ts[k] - ts[k - 1]) * a0 / (a0 - a1); }
-      const double x = vals[kb](s.axis, d);
-      s.out.push_back({s.axis, s.q, t0, t1, s.q == Quantity::kPos ? x : std::abs(x), ts[kb], s.limit});
+      const std::size_t k0 = k;
+      while (k < ts.size() && excess(S.at(k, a, d)) > 0) ++k;
+      const double t0 = k0 > 0 ? cross(k0 - 1, true) : ts[k0];
+      const double t1 = k < ts.size() ? cross(k - 1, false) : ts[k - 1];
+      // Peak of the run: samples and the Hermite extremes between them.
+      double best = S.at(k0, a, d), tb = ts[k0];
+      const int side = s.q == Quantity::kPos ? s.side : (best >= 0 ? +1 : -1);
+      for (std::size_t j = (k0 > 0 ? k0 - 1 : k0); j < k && j + 1 < ts.size(); ++j) {
+        double val = S.at(j + 1, a, d), tv = ts[j + 1];
+        if (d < 3 && S.inner[j] && ts[j + 1] > ts[j]) {
+          const auto e = hermite_extreme(S.at(j, a, d), S.at(j, a, d + 1), S.at(j + 1, a, d), S.at(j + 1, a, d + 1), ts[j + 1] - ts[j], side);
+          val = e.first;
+          tv = ts[j] + e.second;
+        }
+        if (side * val > side * best) { best = val; tb = tv; }
+      }
+      s.out.push_back({s.axis, s.q, t0, t1, s.q == Quantity::kPos ? best : std::abs(best), tb, s.limit});
     }
   }
   for (auto& s : streams) s.finish(r.violations);

@@ -1,0 +1,501 @@
+// Fastest mode: TOPP-RA (Pham & Pham 2018, "A new approach to time-optimal path parameterization
+// based on reachability analysis") for velocity and acceleration limits on a grid over u, then the
+// jerk pass (moving-window average of the path acceleration, local repairs, uniform stretch).
+//
+// Notation on one segment [u_a, u_b] of the path: x = (du/dt)^2, w = d2u/dt2. Along a grid
+// u_0 < ... < u_N, TOPP-RA takes w constant on each step, so x_{i+1} = x_i + 2 (u_{i+1} - u_i) w_i.
+// At grid point i, axis a with b = dq_a/du, c = d2q_a/du2:
+//   velocity      |b| sqrt(x) <= V            ->  x <= (V / |b|)^2
+//   acceleration  |b w + c x| <= A            ->  -A/|b| - (c/b) x <= w <= A/|b| - (c/b) x  (b != 0)
+//                                                  x <= A / |c|                               (b == 0)
+//   jerk at constant speed  |q_uuu| x^(3/2) <= J  ->  x <= (J / |q_uuu|)^(2/3)  (a first guess for
+//                                                  the jerk pass, which checks the full jerk)
+
+#include <algorithm>
+#include <cmath>
+#include <cstdint>
+#include <limits>
+#include <string>
+
+#include "c2path/error.hpp"
+#include "c2path/time_law.hpp"
+#include "detail/time_law_part.hpp"
+
+namespace c2path {
+
+void FastestOptions::validate() const {
+  if (!(scale > 0.0 && scale <= 1.0)) throw Error("fastest plan: scale must be in (0, 1]");
+  if (min_segment_steps < 1 || min_segment_steps > 1000000) throw Error("fastest plan: min_segment_steps must be in [1, 1e6]");
+  if (min_steps < 1 || max_steps < min_steps || max_steps > 10000) throw Error("fastest plan: need 1 <= min_steps <= max_steps <= 10000");
+  if (!(bend_step > 0.0) || !std::isfinite(bend_step)) throw Error("fastest plan: bend_step must be positive");
+  if (!(grid_factor >= 1.0 && grid_factor <= 100.0)) throw Error("fastest plan: grid_factor must be in [1, 100]");
+  if (repair_iterations < 0 || repair_iterations > 100) throw Error("fastest plan: repair_iterations must be in [0, 100]");
+  if (!(binding_fraction > 0.0 && binding_fraction <= 1.0)) throw Error("fastest plan: binding_fraction must be in (0, 1]");
+}
+
+namespace {
+
+constexpr double kInf = std::numeric_limits<double>::infinity();
+// Limits are planned this much inside scale x limit, so that what the grid cannot see stays inside.
+constexpr double kSafety = 0.9995;
+
+struct AxisLim {
+  double vel = kInf, acc = kInf, jerk = kInf;
+};
+
+// Path derivatives on the grid of one segment, point-major: d1[i * m + a].
+struct Grid {
+  std::vector<double> u, d1, d2, d3;
+  [[nodiscard]] std::size_t points() const { return u.size(); }
+};
+
+[[maybe_unused]] void derivs(const Path& path, double u, bool left, Eigen::Ref<Eigen::VectorXd> d1, Eigen::Ref<Eigen::VectorXd> d2,
+            Eigen::Ref<Eigen::VectorXd> d3) {
+  const double ue = left ? std::nextafter(u, -kInf) : u;
+  path.eval(ue, 1, d1);
+  path.eval(ue, 2, d2);
+  path.eval(ue, 3, d3);
+}
+
+Grid make_grid(const Path& path, double ua, double ub, const std::vector<double>& all_breaks, const Eigen::VectorXd& norm,
+               const FastestOptions& o) {
+  const Index m = path.axes();
+  std::vector<double> br;
+  br.push_back(ua);
+  for (double b : all_breaks)
+    if (b > ua && b < ub) br.push_back(b);
+  br.push_back(ub);
+  Grid g;
+  Eigen::VectorXd d1(m), d2(m), d3(m), e1(m);
+  const int factor = int(std::lround(o.grid_factor));
+  std::vector<int> steps(br.size() - 1);
+  long total = 0;
+  for (std::size_t k = 0; k + 1 < br.size(); ++k) {
+    const double a = br[k], b = br[k + 1];
+    path.eval(a, 1, d1);
+    path.eval(std::nextafter(b, -kInf), 1, e1);
+    const Eigen::VectorXd n0 = d1.cwiseProduct(norm), n1 = e1.cwiseProduct(norm);
+    const double l0 = n0.norm(), l1 = n1.norm();
+    double bend = double(o.max_steps);  // a stationary end: as fine as allowed
+    if (l0 > 0.0 && l1 > 0.0) {
+      const double c = std::clamp(n0.dot(n1) / (l0 * l1), -1.0, 1.0);
+      bend = std::acos(c) + std::abs(std::log(l1 / l0));
+    }
+    steps[k] = std::clamp(int(std::ceil(o.min_steps + bend / o.bend_step)), o.min_steps, o.max_steps);
+    total += steps[k];
+  }
+  // Short segments: at least min_segment_steps steps in all, shared by parameter length.
+  if (total < o.min_segment_steps)
+    for (std::size_t k = 0; k + 1 < br.size(); ++k)
+      steps[k] = std::max(steps[k], int(std::ceil(o.min_segment_steps * (br[k + 1] - br[k]) / (ub - ua))));
+  for (std::size_t k = 0; k + 1 < br.size(); ++k) {
+    const double a = br[k], b = br[k + 1];
+    const int n = factor * steps[k];
+    for (int j = 0; j < n; ++j) g.u.push_back(j == 0 ? a : a + (b - a) * double(j) / n);
+  }
+  g.u.push_back(ub);
+  const std::size_t n = g.u.size();
+  g.d1.resize(n * std::size_t(m));
+  g.d2.resize(n * std::size_t(m));
+  g.d3.resize(n * std::size_t(m));
+  for (std::size_t i = 0; i < n; ++i) {
+    derivs(path, g.u[i], i + 1 == n, d1, d2, d3);
+    for (Index a = 0; a < m; ++a) {
+      g.d1[i * std::size_t(m) + std::size_t(a)] = d1[a];
+      g.d2[i * std::size_t(m) + std::size_t(a)] = d2[a];
+      g.d3[i * std::size_t(m) + std::size_t(a)] = d3[a];
+    }
+  }
+  return g;
+}
+
+// TOPP-RA on one segment: returns x_i (squared path speed) at the grid points, x_0 = x_N = 0.
+class Topp {
+ public:
+  Topp(const Grid& g, const std::vector<AxisLim>& lim) : g_(g), lim_(lim), m_(lim.size()) {
+    jcap_.assign(g.points(), kInf);
+    for (std::size_t i = 0; i < g.points(); ++i)
+      for (std::size_t a = 0; a < m_; ++a) {
+        const double d = std::abs(g_.d3[i * m_ + a]);
+        if (lim_[a].jerk < kInf && d > 0.0) jcap_[i] = std::min(jcap_[i], std::cbrt((lim_[a].jerk / d) * (lim_[a].jerk / d)));
+      }
+  }
+
+  std::vector<double> solve(const std::vector<double>& kappa) {
+    const std::size_t n = g_.points();
+    cap_.assign(n, kInf);
+    ascale_.assign(n, 1.0);
+    double finite_max = 0.0;
+    for (std::size_t i = 0; i < n; ++i) {
+      const double k2 = kappa[i] * kappa[i];
+      ascale_[i] = 1.0 / k2;
+      double cap = kInf;
+      for (std::size_t a = 0; a < m_; ++a) {
+        const double b = std::abs(g_.d1[i * m_ + a]), c = std::abs(g_.d2[i * m_ + a]), d = std::abs(g_.d3[i * m_ + a]);
+        if (lim_[a].vel < kInf && b > 0.0) cap = std::min(cap, (lim_[a].vel / b) * (lim_[a].vel / b) / k2);
+        if (lim_[a].acc < kInf && b == 0.0 && c > 0.0) cap = std::min(cap, lim_[a].acc / c / k2);
+        (void)d;
+      }
+      cap = std::min(cap, jcap_[i] / k2);
+      cap_[i] = cap;
+      if (cap < kInf) finite_max = std::max(finite_max, cap);
+    }
+    // A point where nothing limits the speed: far above every limited point.
+    const double big = finite_max > 0.0 ? 1e12 * finite_max : 1e12;
+    for (auto& c : cap_)
+      if (!(c < kInf)) c = big;
+    cap_[0] = 0.0;  // rest at both ends
+    cap_[n - 1] = 0.0;
+    // Backward pass: upper ends of the controllable sets K_i (their lower ends are 0: resting at a
+    // grid point can always be continued by resting).
+    std::vector<double> K(n, 0.0);
+    for (std::size_t i = n - 1; i-- > 0;) K[i] = max_controllable(i, K[i + 1]);
+    // Forward pass: greedy, the largest w that keeps x_{i+1} controllable.
+    std::vector<double> x(n, 0.0);
+    for (std::size_t i = 0; i + 1 < n; ++i) {
+      const double h2 = 2.0 * (g_.u[i + 1] - g_.u[i]);
+      double lo, hi, slo, shi;
+      bounds(i, x[i], K[i + 1], lo, slo, hi, shi);
+      double w = std::max(std::min(hi, (K[i + 1] - x[i]) / h2), lo);
+      x[i + 1] = std::clamp(x[i] + h2 * w, 0.0, K[i + 1]);
+    }
+    return x;
+  }
+
+ private:
+  // Bounds on w at grid point i for speed^2 x: w in [lo, hi], with the slopes d lo/dx, d hi/dx of
+  // the active lines (reachability of [0, knext] at i+1 included).
+  void bounds(std::size_t i, double x, double knext, double& lo, double& slo, double& hi, double& shi) const {
+    const double h2 = 2.0 * (g_.u[i + 1] - g_.u[i]);
+    lo = -x / h2;
+    slo = -1.0 / h2;
+    hi = (knext - x) / h2;
+    shi = -1.0 / h2;
+    for (std::size_t a = 0; a < m_; ++a) {
+      if (!(lim_[a].acc < kInf)) continue;
+      const double b = g_.d1[i * m_ + a];
+      if (b == 0.0) continue;
+      const double r = lim_[a].acc * ascale_[i] / std::abs(b), s = -g_.d2[i * m_ + a] / b;
+      const double l = -r + s * x, h = r + s * x;
+      if (l > lo) { lo = l; slo = s; }
+      if (h < hi) { hi = h; shi = s; }
+    }
+  }
+
+  // Largest x in [0, cap_i] with some w feasible at i (g(x) = lo(x) - hi(x) <= 0; g is convex and
+  // piecewise linear, g(0) <= 0): Newton steps from the right, which cannot overshoot the root of
+  // a convex function, guarded by bisection.
+  double max_controllable(std::size_t i, double knext) const {
+    double xr = cap_[i];
+    if (xr <= 0.0) return 0.0;
+    double lo, slo, hi, shi;
+    auto infeasible = [&](double x) {
+      bounds(i, x, knext, lo, slo, hi, shi);
+      return lo - hi > 1e-13 * (std::abs(lo) + std::abs(hi));
+    };
+    if (!infeasible(xr)) return xr;
+    double xl = 0.0, x = xr;
+    for (int it = 0; it < 200 && xr - xl > 1e-15 * xr; ++it) {
+      const double slope = slo - shi, gx = lo - hi;
+      double xn = slope > 0.0 ? x - gx / slope : 0.5 * (xl + xr);
+      const bool newton = xn > xl && xn < xr;
+      if (!newton) xn = 0.5 * (xl + xr);
+      if (infeasible(xn)) {
+        xr = x = xn;
+      } else {
+        if (newton) return xn;  // a Newton step from the right lands at or above the root
+        xl = xn;
+        x = xr;
+        (void)infeasible(x);  // restore the active lines at the right end
+      }
+    }
+    return xl;
+  }
+
+  const Grid& g_;
+  const std::vector<AxisLim>& lim_;
+  std::size_t m_;
+  std::vector<double> cap_, ascale_, jcap_;
+};
+
+std::shared_ptr<detail::BaseLaw> base_law(const Grid& g, const std::vector<double>& x) {
+  auto b = std::make_shared<detail::BaseLaw>();
+  const std::size_t n = g.points();
+  b->t.resize(n);
+  b->u.resize(n);
+  b->v.resize(n);
+  b->w.resize(n - 1);
+  b->t[0] = 0.0;
+  for (std::size_t i = 0; i < n; ++i) {
+    b->u[i] = g.u[i] - g.u[0];
+    b->v[i] = std::sqrt(std::max(0.0, x[i]));
+  }
+  for (std::size_t i = 0; i + 1 < n; ++i) {
+    const double du = b->u[i + 1] - b->u[i], vs = b->v[i] + b->v[i + 1];
+    if (!(vs > 0.0)) throw Error("fastest plan: the limits allow no motion along the path");
+    const double dt = 2.0 * du / vs;
+    b->t[i + 1] = b->t[i] + dt;
+    b->w[i] = (b->v[i + 1] - b->v[i]) / dt;
+  }
+  b->finish();
+  return b;
+}
+
+// The smoothing window: the largest jump of an axis's acceleration in the base law divided by that
+// axis's jerk limit (at least 1e-3 of the segment's base duration, so the law is C2 without jerk
+// limits too).
+double window(const Grid& g, const detail::BaseLaw& b, const std::vector<AxisLim>& lim) {
+  const std::size_t n = g.points(), m = lim.size();
+  double tau = 1e-3 * b.t.back();
+  for (std::size_t i = 0; i < n; ++i) {
+    const double wl = i == 0 ? 0.0 : b.w[i - 1], wr = i + 1 == n ? 0.0 : b.w[i];
+    const double dw = std::abs(wr - wl);
+    for (std::size_t a = 0; a < m; ++a)
+      if (lim[a].jerk < kInf) tau = std::max(tau, std::abs(g.d1[i * m + a]) * dw / lim[a].jerk);
+  }
+  return tau;
+}
+
+// Times at which a smoothed segment is verified: its breaks (and the midpoints between them).
+std::vector<double> sample_times(const detail::BaseLaw& b, double tau, bool midpoints) {
+  const std::size_t n = b.t.size();
+  std::vector<double> br;
+  br.reserve(2 * n);
+  std::size_t i = 0, j = 0;
+  while (i < n || j < n) {
+    double x;
+    if (j >= n || (i < n && b.t[i] <= b.t[j] + tau)) x = b.t[i++];
+    else x = b.t[j++] + tau;
+    if (br.empty() || x > br.back()) br.push_back(x);
+  }
+  if (!midpoints) return br;
+  std::vector<double> s;
+  s.reserve(2 * br.size());
+  for (std::size_t k = 0; k < br.size(); ++k) {
+    s.push_back(br[k]);
+    if (k + 1 < br.size()) s.push_back(0.5 * (br[k] + br[k + 1]));
+  }
+  return s;
+}
+
+struct SegmentPlan {
+  std::shared_ptr<detail::SmoothPart> part;
+  std::vector<Binding> binding;  // local unstretched times
+  std::size_t grid_points = 0;
+  int repairs = 0;
+};
+
+SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vector<double>& all_breaks,
+                         const std::vector<AxisLim>& lim, const Eigen::VectorXd& norm, const FastestOptions& o) {
+  const std::size_t m = lim.size();
+  const Grid g = make_grid(path, ua, ub, all_breaks, norm, o);
+  const std::size_t n = g.points();
+  Topp topp(g, lim);
+  std::vector<double> kappa(n, 1.0);
+  auto part = std::make_shared<detail::SmoothPart>();
+  part->ua = ua;
+  part->ub = ub;
+  double tau = 0.0;
+  std::vector<double> ilim(3 * m, 0.0);  // 1 / limit, 0 where there is none
+  for (std::size_t a = 0; a < m; ++a) {
+    ilim[a * 3] = lim[a].vel < kInf ? 1.0 / lim[a].vel : 0.0;
+    ilim[a * 3 + 1] = lim[a].acc < kInf ? 1.0 / lim[a].acc : 0.0;
+    ilim[a * 3 + 2] = lim[a].jerk < kInf ? 1.0 / lim[a].jerk : 0.0;
+  }
+  // Per axis and quantity: the samples (index, ratio to the planned limit) near enough to bind.
+  std::vector<std::vector<std::pair<std::uint32_t, float>>> cand(m * 3);
+  std::vector<double> ts;
+  double kmax = 1.0;
+  int repairs = 0;
+  // Rounds of TOPP-RA and verification at the breaks of the smoothed law, slowing TOPP-RA down
+  // where a sample exceeds a limit; then one dense verification (breaks and midpoints) of the last
+  // law for the stretch and the binding intervals.
+  bool dense = false;
+  for (int iter = 0;; ++iter) {
+    if (!dense) {
+      const std::vector<double> x = topp.solve(kappa);
+      part->base = base_law(g, x);
+      if (iter == 0) tau = window(g, *part->base, lim);
+      part->tau = tau;
+      part->k = 1.0;
+    }
+    // Verify the smoothed law at its breaks and midpoints, in one sweep: cursors for the base
+    // intervals at s and s - tau, and for the grid interval of u. The path derivatives come from
+    // the Taylor expansion at the grid point below u (exact for piecewise-cubic paths, whose
+    // breaks are all grid points; the final check evaluates the path itself).
+    ts = sample_times(*part->base, tau, dense);
+    for (auto& c : cand) c.clear();
+    const double near_limit = o.binding_fraction / kSafety;
+    std::vector<double> need(n, 1.0);
+    struct Slow {
+      std::size_t i0, i1;
+      double f;
+    };
+    std::vector<Slow> slow;
+    const detail::BaseLaw& bl = *part->base;
+    const double T0 = bl.t.back(), L = bl.u.back();
+    kmax = 1.0;
+    std::size_t ih = 0, il = 0, ig = 0;
+    // Base law at `at` with interval cursor i; returns the area under u_0 up to `at`.
+    // (Double precision is plenty here: u only locates the path derivatives.)
+    auto base_at = [&](double at, std::size_t& i, double* o3) -> double {
+      if (!(at > 0.0)) {
+        o3[0] = o3[1] = o3[2] = 0.0;
+        return 0.0;
+      }
+      if (at >= T0) {
+        o3[0] = L;
+        o3[1] = o3[2] = 0.0;
+        return double(bl.area[n - 1]) + L * (at - T0);
+      }
+      while (i + 2 < n && bl.t[i + 1] <= at) ++i;
+      const double y = at - bl.t[i];
+      o3[0] = bl.u[i] + y * (bl.v[i] + 0.5 * bl.w[i] * y);
+      o3[1] = bl.v[i] + bl.w[i] * y;
+      o3[2] = bl.w[i];
+      return double(bl.area[i]) + y * (bl.u[i] + y * (bl.v[i] * 0.5 + y * bl.w[i] * (1.0 / 6.0)));
+    };
+    const double itau = 1.0 / tau;
+    for (std::size_t k = 0; k < ts.size(); ++k) {
+      const double s = ts[k];
+      double hi[3], lo[3];
+      const double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
+      const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
+      const double uu = s - tau >= T0 ? L : std::min(L, (ahi - alo) * itau);
+      const double ur = uu + g.u[0];
+      while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
+      const double dl = ur - g.u[ig];
+      double rv = 0.0, ra = 0.0, rj = 0.0;
+      const double* p1 = &g.d1[ig * m];
+      const double* p2 = &g.d2[ig * m];
+      const double* p3 = &g.d3[ig * m];
+      for (std::size_t a = 0; a < m; ++a) {
+        const double q3 = p3[a], q2 = p2[a] + q3 * dl, q1 = p1[a] + dl * (p2[a] + 0.5 * q3 * dl);
+        const double v = std::abs(q1 * u1);
+        const double acc = std::abs(q2 * u1 * u1 + q1 * u2);
+        const double j = std::abs(q3 * u1 * u1 * u1 + 3.0 * q2 * u1 * u2 + q1 * u3);
+        const double r[3] = {v * ilim[a * 3], acc * ilim[a * 3 + 1], j * ilim[a * 3 + 2]};
+        for (std::size_t q = 0; q < 3; ++q)
+          if (r[q] >= near_limit) cand[a * 3 + q].push_back({std::uint32_t(k), float(r[q])});
+        rv = std::max(rv, r[0]);
+        ra = std::max(ra, r[1]);
+        rj = std::max(rj, r[2]);
+      }
+      const double kneed = std::max({1.0, rv, std::sqrt(std::max(ra, rj))});
+      if (rv > kmax || ra > kmax * kmax || rj > kmax * kmax * kmax) kmax = std::max({kmax, rv, std::sqrt(ra), std::cbrt(rj)});
+      if (kneed > 1.0) {
+        // The base law inside the window [s - tau, s] made this sample: slow it down there.
+        slow.push_back({(s - tau > 0.0) ? il : 0, std::min(ih + 1, n - 1), kneed * 1.001});
+      }
+    }
+    // need[i] = the largest factor of the windows that cover grid point i. Both ends of the
+    // windows increase with the sample, so a sliding maximum (monotone deque) does it in O(n).
+    {
+      std::size_t next = 0, head = 0;
+      std::vector<std::size_t> dq;  // indices into slow, factors decreasing
+      for (std::size_t i = 0; i < n; ++i) {
+        while (next < slow.size() && slow[next].i0 <= i) {
+          while (dq.size() > head && slow[dq.back()].f <= slow[next].f) dq.pop_back();
+          if (dq.size() < head) head = dq.size();
+          dq.push_back(next++);
+        }
+        while (dq.size() > head && slow[dq[head]].i1 < i) ++head;
+        if (dq.size() > head) need[i] = slow[dq[head]].f;
+      }
+    }
+    if (dense) break;
+    if (kmax <= 1.0 || iter >= o.repair_iterations) {
+      repairs = iter;
+      dense = true;
+      continue;
+    }
+    for (std::size_t i = 0; i < n; ++i) kappa[i] *= need[i];
+  }
+  part->k = kmax;
+  part->t0 = 0.0;
+  part->t1 = kmax * (part->base->t.back() + tau);
+  SegmentPlan sp;
+  sp.part = part;
+  sp.grid_points = n;
+  sp.repairs = repairs;
+  // Binding intervals: consecutive samples where a quantity is at >= binding_fraction of its limit.
+  const double kp[3] = {kmax, kmax * kmax, kmax * kmax * kmax};
+  for (std::size_t a = 0; a < m; ++a)
+    for (std::size_t q = 0; q < 3; ++q) {
+      const Quantity qq = q == 0 ? Quantity::kVel : q == 1 ? Quantity::kAcc : Quantity::kJerk;
+      bool open = false;
+      Binding cur;
+      std::uint32_t last = 0;
+      for (const auto& [k, r] : cand[a * 3 + q]) {
+        if (!(double(r) * kSafety / kp[q] >= o.binding_fraction)) continue;
+        if (open && k == last + 1) {
+          cur.t_end = ts[k] * kmax;
+        } else {
+          if (open) sp.binding.push_back(cur);
+          cur = {Index(a), qq, ts[k] * kmax, ts[k] * kmax};
+          open = true;
+        }
+        last = k;
+      }
+      if (open) sp.binding.push_back(cur);
+    }
+  return sp;
+}
+
+}  // namespace
+
+FastestResult plan_fastest(const Path& path, const std::vector<AxisLimits>& limits, const std::vector<double>& holds_s,
+                           const FastestOptions& o) {
+  o.validate();
+  const std::size_t m = std::size_t(path.axes());
+  if (limits.size() != m) throw Error("fastest plan: one set of limits per axis is needed");
+  const std::vector<double> st = path.stops();
+  if (holds_s.size() != st.size()) throw Error("fastest plan: one hold per path stop is needed");
+  std::vector<AxisLim> lim(m);
+  Eigen::VectorXd norm(static_cast<Index>(m));
+  bool any = false;
+  for (std::size_t a = 0; a < m; ++a) {
+    const double f = o.scale * kSafety;
+    if (limits[a].vel) lim[a].vel = f * *limits[a].vel;
+    if (limits[a].acc) lim[a].acc = f * *limits[a].acc;
+    if (limits[a].jerk) lim[a].jerk = f * *limits[a].jerk;
+    any = any || limits[a].vel || limits[a].acc;
+    norm[Index(a)] = limits[a].vel ? 1.0 / *limits[a].vel : 1.0;
+  }
+  if (!any) throw Error("timing: mode fastest needs a 'vel' or 'acc' limit on at least one axis");
+  const std::vector<double> br = path.breaks();
+  FastestResult res;
+  std::vector<std::shared_ptr<const detail::TimeLawPart>> parts;
+  double t = 0.0;
+  for (std::size_t k = 0; k < st.size(); ++k) {
+    if (holds_s[k] > 0.0) {
+      parts.push_back(detail::make_hold(t, t + holds_s[k], st[k]));
+      t = parts.back()->t1;
+    }
+    if (k + 1 == st.size()) break;
+    SegmentPlan sp = plan_segment(path, st[k], st[k + 1], br, lim, norm, o);
+    const double T = sp.part->t1;
+    sp.part->t0 = t;
+    sp.part->t1 = t + T;
+    for (auto b : sp.binding) {
+      b.t_start += t;
+      b.t_end += t;
+      res.binding.push_back(b);
+    }
+    res.grid_points += sp.grid_points;
+    res.repairs += sp.repairs;
+    res.window_s = std::max(res.window_s, sp.part->tau);
+    res.stretch = std::max(res.stretch, sp.part->k);
+    t = sp.part->t1;
+    parts.push_back(sp.part);
+  }
+  std::sort(res.binding.begin(), res.binding.end(), [](const Binding& x, const Binding& y) {
+    if (x.t_start != y.t_start) return x.t_start < y.t_start;
+    if (x.axis != y.axis) return x.axis < y.axis;
+    return int(x.quantity) < int(y.quantity);
+  });
+  res.law = std::make_shared<TimeLaw>(std::move(parts));
+  return res;
+}
+
+}  // namespace c2path
