@@ -148,6 +148,17 @@ TEST_CASE("knots: invalid arguments", "[knots]") {
   CHECK_THROWS_WITH(compute_knots(q, KnotType::kChord, ones(3)), Contains("one weight per axis"));
   CHECK_THROWS_WITH(compute_knots(q.topRows(1), KnotType::kChord, ones(2)), Contains("at least 2 waypoints"));
   CHECK(weighted_chords(q.topRows(1), ones(2)).size() == 0);
+  // Weights must be finite and non-negative; waypoints finite.
+  Eigen::VectorXd w(2);
+  w << 1.0, -0.5;
+  CHECK_THROWS_WITH(compute_knots(q, KnotType::kChord, w), Contains("weight of axis 1"));
+  w << std::numeric_limits<double>::quiet_NaN(), 1.0;
+  CHECK_THROWS_WITH(compute_knots(q, KnotType::kChord, w), Contains("weight of axis 0"));
+  w << std::numeric_limits<double>::infinity(), 1.0;
+  CHECK_THROWS_WITH(compute_knots(q, KnotType::kUniform, w), Contains("weight of axis 0"));
+  Eigen::MatrixXd qn = q;
+  qn(3, 1) = std::numeric_limits<double>::infinity();
+  CHECK_THROWS_WITH(compute_knots(qn, KnotType::kChord, ones(2)), Contains("waypoint 3 is not finite"));
   CHECK_FALSE(find_coincident(q.topRows(1), ones(2)).has_value());
 }
 

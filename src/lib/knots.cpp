@@ -40,6 +40,11 @@ Eigen::VectorXd compute_knots(const Eigen::Ref<const Eigen::MatrixXd>& q, KnotTy
                               const Eigen::Ref<const Eigen::VectorXd>& weights, double u_start) {
   if (weights.size() != q.cols()) throw Error("knots: one weight per axis is needed");
   if (q.rows() < 2) throw Error("knots: at least 2 waypoints are needed");
+  for (Eigen::Index a = 0; a < weights.size(); ++a)
+    if (!std::isfinite(weights[a]) || weights[a] < 0.0)
+      throw Error("knots: the weight of axis " + std::to_string(a) + " must be a finite number >= 0");
+  for (Eigen::Index k = 0; k < q.rows(); ++k)
+    if (!q.row(k).allFinite()) throw Error("knots: waypoint " + std::to_string(k) + " is not finite");
   if (auto k = find_coincident(q, weights))
     throw Error("waypoints " + std::to_string(*k) + " and " + std::to_string(*k + 1) +
                 " coincide (under the knot weights); remove one or move it");
