@@ -141,21 +141,6 @@ void App::handle_keys() {
       status_bad_ = !ok;
     }
   }
-  if (!have_samples_) return;
-  const auto& tr = *doc_.shown()->plan.trajectory;
-  if (key(GLFW_KEY_SPACE)) {
-    if (!playing_ && t_ >= tr.t_end()) t_ = tr.t_begin();
-    playing_ = !playing_;
-  }
-  if (key(GLFW_KEY_HOME)) t_ = tr.t_begin();
-  if (key(GLFW_KEY_END)) t_ = tr.t_end();
-  const double step = tr.duration() / 100.0;
-  if (key(GLFW_KEY_LEFT, true)) t_ = std::max(tr.t_begin(), t_ - step);
-  if (key(GLFW_KEY_RIGHT, true)) t_ = std::min(tr.t_end(), t_ + step);
-  if (key(GLFW_KEY_L)) loop_ = !loop_;
-  if (key(GLFW_KEY_F)) frame_all();
-  if (key(GLFW_KEY_C)) colour_ = colour_ == ColourBy::kLimitPct ? ColourBy::kSpeed : ColourBy::kLimitPct;
-  if (key(GLFW_KEY_0)) { tv0_ = tr.t_begin(); tv1_ = tr.t_end(); }
   if (doc_.has_scene()) {
     const int n = int(doc_.scene().waypoints.size());
     if (selected_ >= n) selected_ = n - 1;
@@ -171,6 +156,21 @@ void App::handle_keys() {
     if (key(GLFW_KEY_PAGE_UP) && selected_ > 0) { --selected_; scroll_to_selected_ = true; }
     if (key(GLFW_KEY_PAGE_DOWN) && selected_ + 1 < n) { ++selected_; scroll_to_selected_ = true; }
   }
+  if (!have_samples_) return;
+  const auto& tr = *doc_.shown()->plan.trajectory;
+  if (key(GLFW_KEY_SPACE)) {
+    if (!playing_ && t_ >= tr.t_end()) t_ = tr.t_begin();
+    playing_ = !playing_;
+  }
+  if (key(GLFW_KEY_HOME)) t_ = tr.t_begin();
+  if (key(GLFW_KEY_END)) t_ = tr.t_end();
+  const double step = tr.duration() / 100.0;
+  if (key(GLFW_KEY_LEFT, true)) t_ = std::max(tr.t_begin(), t_ - step);
+  if (key(GLFW_KEY_RIGHT, true)) t_ = std::min(tr.t_end(), t_ + step);
+  if (key(GLFW_KEY_L)) loop_ = !loop_;
+  if (key(GLFW_KEY_F)) frame_all();
+  if (key(GLFW_KEY_C)) colour_ = colour_ == ColourBy::kLimitPct ? ColourBy::kSpeed : ColourBy::kLimitPct;
+  if (key(GLFW_KEY_0)) { tv0_ = tr.t_begin(); tv1_ = tr.t_end(); }
 }
 
 void App::top_bar(const ImVec2& pos, const ImVec2& size) {

@@ -255,7 +255,7 @@ int main(int argc, char** argv) {
     return double(ts.tv_sec) * 1e3 + double(ts.tv_nsec) * 1e-6;
   };
   auto last = Clock::now();
-  int rc = 0;
+  int rc = 0, draw_calls = 0;
   for (int frame = 0; !glfwWindowShouldClose(win); ++frame) {
     if (a.frames > 0 && frame >= a.frames) break;
     if (headless || app.busy() || a.timing) glfwPollEvents();
@@ -300,6 +300,8 @@ int main(int argc, char** argv) {
     }
     ImGui_ImplOpenGL3_RenderDrawData(ImGui::GetDrawData());
     if (a.timing) glFinish();
+    draw_calls = 0;
+    for (int l = 0; l < ImGui::GetDrawData()->CmdListsCount; ++l) draw_calls += ImGui::GetDrawData()->CmdLists[l]->CmdBuffer.Size;
     const auto t2 = Clock::now();
     frame_ms.push_back(std::chrono::duration<double, std::milli>(t2 - t0).count());
     cpu_ms.push_back(cpu_now() - c0);
@@ -341,9 +343,9 @@ int main(int argc, char** argv) {
     }
     const double k = double(frame_ms.size() - skip);
     std::printf("frame time over %zu frames (first %zu excluded, first %.1f ms): mean %.2f ms, max %.2f ms; UI build mean %.2f ms; "
-                "process CPU per frame (all threads) %.2f ms; %d vertices, %s\n",
+                "process CPU per frame (all threads) %.2f ms; %d vertices, %d draw calls, %s\n",
                 frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k, csum / k, io.MetricsRenderVertices,
-                app.stats().c_str());
+                draw_calls, app.stats().c_str());
   }
   ImGui_ImplOpenGL3_Shutdown();
   ImGui_ImplGlfw_Shutdown();

@@ -98,8 +98,17 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
     // span is small the columns are joined by an anti-aliased line; where it is tall (steep or
     // oscillating parts) it is drawn as a solid 2 px bar, which costs far less to fill than a
     // zigzag line.
+    // Neighbouring bars whose ends differ by less than 1.5 px are merged into one rectangle: a
+    // software renderer fills one wide rectangle far faster than many 2 px ones.
     const float* sv = samples_.series(d, axis);
     float prev_last = sv[col_index_[0]];
+    bool bar_open = false;
+    ImVec2 bar_min{0, 0}, bar_max{0, 0};
+    float bar_top = 0, bar_bot = 0;  // the ends of the bar that opened the run
+    auto flush_bar = [&] {
+      if (bar_open) dl->AddRectFilled(bar_min, bar_max, c);
+      bar_open = false;
+    };
     auto flush = [&] {
       if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);
       line_.clear();
@@ -113,14 +122,28 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       const float last = sv[std::min(i1, samples_.n) - 1];
       const float x = r.min.x + (float(j) + 0.5f) * w / float(cols);
       const float ya = Y(a), yb = Y(b);
-      if (ya - yb <= 3.0f) line_.push_back({x, Y(0.5f * (a + b))});
-      else {
+      if (ya - yb <= 3.0f) {
+        flush_bar();
+        line_.push_back({x, Y(0.5f * (a + b))});
+      } else {
         flush();
-        dl->AddRectFilled({x - 1.0f, yb}, {x + 1.0f, ya}, c);
+        if (bar_open && std::abs(yb - bar_top) < 1.5f && std::abs(ya - bar_bot) < 1.5f) {
+          bar_max.x = x + 1.0f;
+          bar_min.y = std::min(bar_min.y, yb);
+          bar_max.y = std::max(bar_max.y, ya);
+        } else {
+          flush_bar();
+          bar_open = true;
+          bar_min = {x - 1.0f, yb};
+          bar_max = {x + 1.0f, ya};
+          bar_top = yb;
+          bar_bot = ya;
+        }
         line_.push_back({x, Y(last)});
       }
       prev_last = last;
     }
+    flush_bar();
     flush();
   }
   if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);  // integer widths: textured AA lines, fewer vertices
