@@ -307,23 +307,37 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
       if (in_view(handle_proj_[k])) ++visible;
     }
     handles_dense_ = visible > 300;
-    const float cell = handles_dense_ ? 8.0f : 22.0f;
+    // A grid of cells D / sqrt(2) wide holds at most one drawn handle each; a new handle is drawn
+    // when no drawn handle within 2 cells is closer than D.
+    const float dmin = handles_dense_ ? 7.0f : 18.0f, cell = dmin / 1.41421356f;
     const int gw = std::max(1, int((vr.max.x - vr.min.x) / cell) + 1), gh = std::max(1, int((vr.max.y - vr.min.y) / cell) + 1);
-    occupied_.assign(std::size_t(gw) * std::size_t(gh), 0u);
-    auto mark = [&](ImVec2 pt) {
-      const int cx = int((pt.x - vr.min.x) / cell), cy = int((pt.y - vr.min.y) / cell);
-      for (int y = std::max(0, cy - 1); y <= std::min(gh - 1, cy + 1); ++y)
-        for (int x = std::max(0, cx - 1); x <= std::min(gw - 1, cx + 1); ++x) occupied_[std::size_t(y * gw + x)] = 1u;
+    occupied_.assign(std::size_t(gw) * std::size_t(gh), 0u);  // index + 1 of the handle in the cell
+    auto cell_of = [&](ImVec2 pt, int& cx, int& cy) {
+      cx = std::clamp(int((pt.x - vr.min.x) / cell), 0, gw - 1);
+      cy = std::clamp(int((pt.y - vr.min.y) / cell), 0, gh - 1);
+    };
+    auto free_at = [&](ImVec2 pt) {
+      int cx = 0, cy = 0;
+      cell_of(pt, cx, cy);
+      for (int y = std::max(0, cy - 2); y <= std::min(gh - 1, cy + 2); ++y)
+        for (int x = std::max(0, cx - 2); x <= std::min(gw - 1, cx + 2); ++x) {
+          const std::uint32_t o = occupied_[std::size_t(y * gw + x)];
+          if (o && dist2(handle_proj_[o - 1], pt) < dmin * dmin) return false;
+        }
+      return true;
+    };
+    auto take = [&](std::size_t k) {
+      int cx = 0, cy = 0;
+      cell_of(handle_proj_[k], cx, cy);
+      occupied_[std::size_t(cy * gw + cx)] = std::uint32_t(k + 1);
     };
     handle_list_.clear();
-    if (n > 0 && in_view(handle_proj_[0])) mark(handle_proj_[0]);
-    if (n > 1 && in_view(handle_proj_[n - 1])) mark(handle_proj_[n - 1]);
+    if (n > 0 && in_view(handle_proj_[0])) take(0);
+    if (n > 1 && in_view(handle_proj_[n - 1]) && free_at(handle_proj_[n - 1])) take(n - 1);
     for (std::size_t k = 1; k + 1 < n; ++k) {
       const ImVec2 pt = handle_proj_[k];
-      if (!in_view(pt)) continue;
-      const int cx = int((pt.x - vr.min.x) / cell), cy = int((pt.y - vr.min.y) / cell);
-      if (occupied_[std::size_t(cy * gw + cx)]) continue;
-      mark(pt);
+      if (!in_view(pt) || !free_at(pt)) continue;
+      take(k);
       handle_list_.push_back(k);
     }
   }
