@@ -33,8 +33,14 @@ constexpr std::size_t kHugePage = std::size_t(2) << 20;  // 2 MiB
 constexpr std::size_t kBulkMin = std::size_t(4) << 20;   // bulk storage from 4 MiB on
 }  // namespace
 
+#ifdef __linux__
+constexpr bool kHugePages = true;
+#else
+constexpr bool kHugePages = false;  // plain operator new elsewhere
+#endif
+
 void* bulk_allocate(std::size_t bytes) {
-  if (bytes < kBulkMin) return ::operator new(bytes);
+  if (!kHugePages || bytes < kBulkMin) return ::operator new(bytes);
   const std::size_t rounded = (bytes + kHugePage - 1) / kHugePage * kHugePage;
   void* p = std::aligned_alloc(kHugePage, rounded);
   if (p == nullptr) throw std::bad_alloc();
@@ -45,7 +51,7 @@ void* bulk_allocate(std::size_t bytes) {
 }
 
 void bulk_deallocate(void* p, std::size_t bytes) noexcept {
-  if (bytes < kBulkMin)
+  if (!kHugePages || bytes < kBulkMin)
     ::operator delete(p);
   else
     std::free(p);
