@@ -303,6 +303,18 @@ TEST_CASE("scene: YAML syntax errors give the place yaml-cpp stops at", "[scene]
   expect_error(bad_close, place_of(bad_close, "]\n"), "YAML syntax");
   // A tab used for indentation.
   expect_error("format: 1\nrig:\n\taxes: []\n", {3, 6}, "YAML syntax");
+  // An unclosed quote: yaml-cpp 0.7 lets it swallow the rest of the file without an error; the
+  // loader points at the opening quote instead of reporting a missing 'rig'.
+  const std::string uq = "format: 1\nname: \"unclosed\nrig:\n  axes:\n    - {name: x}\n";
+  expect_error(uq, place_of(uq, "\""), "a quoted text is never closed");
+  const std::string uq2 = kRig + "waypoints:\n  - {t: 0, x: 0.1, y: 0}\n  - {t: 1, x: 0.5, y: 10}\nname: 'it''s open\n";
+  expect_error(uq2, place_of(uq2, "'it"), "never closed: add the closing '");
+  // Closed quotes with escapes inside are fine.
+  const std::string ok = "format: 1\nname: \"a \\\" b\"\nrig:\n  axes:\n    - {name: x, unit: 'it''s'}\n"
+                         "waypoints:\n  - {t: 0, x: 0}\n  - {t: 1, x: 1}\n";
+  const Scene sq = load_scene_text(ok, "q.yaml");
+  CHECK(sq.name == "a \" b");
+  CHECK(sq.axes[0].unit == "it's");
   // Each syntax message says what to do.
   expect_error("format: 1\nrig:\n\taxes: []\n", {3, 6}, "indent with spaces, not tabs");
   expect_error("format: 1\nrig: {axes: [{name: x}]\n", {3, 1}, "a '{' is not closed: add the '}'");

@@ -169,6 +169,34 @@ class Loader {
     return out;
   }
 
+  // yaml-cpp 0.7 accepts a quoted scalar that is never closed: it swallows the rest of the file,
+  // and the error would be a confusing "'rig' is missing". Every quoted scalar must have its
+  // closing quote in the text.
+  void check_quotes_closed(const YAML::Node& n, int depth) const {
+    if (depth > 64) return;
+    if (n.IsScalar()) {
+      const YAML::Mark m = n.Mark();
+      if (m.pos < 0 || std::size_t(m.pos) >= text_.size()) return;
+      const char q = text_[std::size_t(m.pos)];
+      if (q != '"' && q != '\'') return;
+      for (std::size_t i = std::size_t(m.pos) + 1; i < text_.size(); ++i) {
+        if (q == '"' && text_[i] == '\\') { ++i; continue; }
+        if (text_[i] != q) continue;
+        if (q == '\'' && i + 1 < text_.size() && text_[i + 1] == '\'') { ++i; continue; }
+        return;
+      }
+      fail(loc_of(n), std::string("a quoted text is never closed: add the closing ") + (q == '"' ? "\"" : "'") +
+                          " (it swallows the rest of the file)");
+    }
+    if (n.IsMap())
+      for (auto it = n.begin(); it != n.end(); ++it) {
+        check_quotes_closed(it->first, depth + 1);
+        check_quotes_closed(it->second, depth + 1);
+      }
+    if (n.IsSequence())
+      for (std::size_t i = 0; i < n.size(); ++i) check_quotes_closed(n[i], depth + 1);
+  }
+
   // Whether line `line` (1-based) of the text is indented with a tab (YAML forbids tabs there).
   bool leading_tab(int line) const {
     std::size_t pos = 0;
@@ -305,6 +333,7 @@ class Loader {
       fail(SourceLoc{1, 1}, "the scene is empty; it needs at least 'format: 1', 'rig' and 'waypoints'");
     if (docs.size() > 1) fail(docs[1], "the file holds more than one YAML document; a scene is a single document");
     const YAML::Node root = docs[0];
+    check_quotes_closed(root, 0);
     expect_map(root, "the scene");
     const auto top = keys(root, "scene", {"format", "name", "rig", "path", "timing", "waypoints", "export"});
     auto find = [&](const std::string& k) -> std::optional<YAML::Node> {
