@@ -24,7 +24,49 @@ std::optional<double> limit_of(const AxisSpec& a, int d) {
 }
 
 void dashed_hline(ImDrawList* dl, float x0, float x1, float y, ImU32 c) {
-  for (float x = x0; x < x1; x += 9.0f) dl->AddLine({x, y}, {std::min(x + 5.0f, x1), y}, c, 1.0f);
+  for (float x = x0; x < x1; x += 14.0f) dl->AddLine({x, y}, {std::min(x + 8.0f, x1), y}, c, 1.0f);
+}
+
+inline float cross2(ImVec2 a, ImVec2 b) { return a.x * b.y - a.y * b.x; }
+
+/// Thins a polyline in place by screen-space error: a run from an anchor point is extended while
+/// every point of it stays within `tol` pixels of the line from the anchor to the run's end (a
+/// cone of admissible directions, narrowed by each point; O(n)). Ends are kept.
+void thin_polyline(std::vector<ImVec2>& pts, float tol) {
+  if (pts.size() < 3) return;
+  std::size_t out = 1, anchor = 0, last = 0;
+  bool cone = false;
+  ImVec2 L{0, 0}, R{0, 0};
+  const float tol2 = tol * tol;
+  std::vector<ImVec2>& p = pts;
+  for (std::size_t i = 1; i < p.size(); ++i) {
+    ImVec2 d{p[i].x - p[anchor].x, p[i].y - p[anchor].y};
+    float r2 = d.x * d.x + d.y * d.y;
+    if (r2 <= tol2) { last = i; continue; }
+    float r = std::sqrt(r2);
+    ImVec2 u{d.x / r, d.y / r};
+    if (cone && !(cross2(R, u) >= 0.0f && cross2(u, L) >= 0.0f)) {
+      p[out++] = p[last];  // the run ends at the last point that fitted
+      anchor = out - 1;
+      // (p[anchor] now holds the new anchor's coordinates)
+      cone = false;
+      d = {p[i].x - p[anchor].x, p[i].y - p[anchor].y};
+      r2 = d.x * d.x + d.y * d.y;
+      if (r2 <= tol2) { last = i; continue; }
+      r = std::sqrt(r2);
+      u = {d.x / r, d.y / r};
+    }
+    const float sn = tol / r, cs = std::sqrt(std::max(0.0f, 1.0f - sn * sn));
+    const ImVec2 left{u.x * cs - u.y * sn, u.x * sn + u.y * cs}, right{u.x * cs + u.y * sn, -u.x * sn + u.y * cs};
+    if (!cone) { L = left; R = right; cone = true; }
+    else {
+      if (cross2(L, left) < 0.0f) L = left;
+      if (cross2(R, right) > 0.0f) R = right;
+    }
+    last = i;
+  }
+  p[out++] = p[last];
+  p.resize(out);
 }
 
 double nice_step(double raw) {
@@ -110,7 +152,9 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       bar_open = false;
     };
     auto flush = [&] {
-      if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);
+      thin_polyline(line_, 0.25f);
+      thin_polyline(line_, 0.25f);
+  if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);
       line_.clear();
     };
     for (int j = 0; j < cols; ++j) {
@@ -146,6 +190,7 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
     flush_bar();
     flush();
   }
+  thin_polyline(line_, 0.25f);
   if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);  // integer widths: textured AA lines, fewer vertices
 
   // Playhead.
