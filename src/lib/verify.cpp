@@ -209,7 +209,6 @@ struct Verifier::Impl {
       valid_since = r_index;
       pending = false;  // cannot place waypoints across a broken clock
     }
-    if (index_col >= 0 && t_col < 0 && r_index > 0 && !(vals[index_col] > 0)) { /* covered by the time check */ }
     if (dt_col >= 0) {
       const double dt = vals[dt_col];
       const double want = r_index == 0 ? 0.0 : r.t - at(1).t;
