@@ -307,7 +307,7 @@ TEST_CASE("scene: YAML syntax errors give the place yaml-cpp stops at", "[scene]
   // loader points at the opening quote instead of reporting a missing 'rig'.
   const std::string uq = "format: 1\nname: \"unclosed\nrig:\n  axes:\n    - {name: x}\n";
   expect_error(uq, place_of(uq, "\""), "a quoted text is never closed");
-  const std::string uq2 = kRig + "waypoints:\n  - {t: 0, x: 0.1, y: 0}\n  - {t: 1, x: 0.5, y: 10}\nname: 'it''s open\n";
+  const std::string uq2 = "format: 1\nname: 'it''s open\n" + kRig.substr(10) + kWaypoints;
   expect_error(uq2, place_of(uq2, "'it"), "never closed: add the closing '");
   // Closed quotes with escapes inside are fine.
   const std::string ok = "format: 1\nname: \"a \\\" b\"\nrig:\n  axes:\n    - {name: x, unit: 'it''s'}\n"

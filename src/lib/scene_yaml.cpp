@@ -12,6 +12,7 @@
 #include <iostream>
 #include <iterator>
 #include <map>
+#include <optional>
 #include <sstream>
 
 #include "detail/atomic_file.hpp"
@@ -170,8 +171,11 @@ class Loader {
   }
 
   // yaml-cpp 0.7 accepts a quoted scalar that is never closed: it swallows the rest of the file,
-  // and the error would be a confusing "'rig' is missing". Every quoted scalar must have its
-  // closing quote in the text.
+  // and the error would be a confusing "'rig' is missing". After an error, every quoted scalar of
+  // the document must have its closing quote in the text, else that is the error reported.
+  void check_quotes_closed() const {
+    if (root_) check_quotes_closed(*root_, 0);
+  }
   void check_quotes_closed(const YAML::Node& n, int depth) const {
     if (depth > 64) return;
     if (n.IsScalar()) {
@@ -333,7 +337,7 @@ class Loader {
       fail(SourceLoc{1, 1}, "the scene is empty; it needs at least 'format: 1', 'rig' and 'waypoints'");
     if (docs.size() > 1) fail(docs[1], "the file holds more than one YAML document; a scene is a single document");
     const YAML::Node root = docs[0];
-    check_quotes_closed(root, 0);
+    root_ = root;
     expect_map(root, "the scene");
     const auto top = keys(root, "scene", {"format", "name", "rig", "path", "timing", "waypoints", "export"});
     auto find = [&](const std::string& k) -> std::optional<YAML::Node> {
@@ -550,6 +554,7 @@ class Loader {
  private:
   std::string file_;
   std::string_view text_;  // the text being loaded (for null_item_loc)
+  std::optional<YAML::Node> root_;  // the parsed document, once there is one
 };
 
 void put_number(std::string& out, double v) {
@@ -570,7 +575,15 @@ std::string quoted(const std::string& s) {
 
 }  // namespace
 
-Scene load_scene_text(std::string_view text, const std::string& file) { return Loader(file).load(text); }
+Scene load_scene_text(std::string_view text, const std::string& file) {
+  Loader loader(file);
+  try {
+    return loader.load(text);
+  } catch (const Error&) {
+    loader.check_quotes_closed();  // the root cause of many a confusing error; costs nothing on success
+    throw;
+  }
+}
 
 Scene load_scene_file(const std::string& path) {
   std::string data;
