@@ -24,10 +24,19 @@ round-trips a double exactly; '#' starts a comment line):
     slopes S_1 .. S_AXES E_1 .. E_AXES (clamped only) start and end slope per axis
     p U Q_1 .. Q_AXES                  POINTS lines: the data points
     e U D V_1 .. V_AXES                EVALS lines: d^D q / du^D at U per axis (D = 0..3)
+    x U D V_1 .. V_AXES                (cases of up to 40 points) the same quantity of the exact
+                                       spline, solved in rational arithmetic (fractions.Fraction)
+                                       from the same double data and rounded once to double
     end
+
+The exact values do not come from SciPy: they are the interpolating spline defined directly by
+its conditions (interpolation, C1 and C2 at interior knots, and the third derivative continuous
+at u_1 and u_{n-1} for not-a-knot, or the given end slopes), solved without rounding. They tell
+which of two implementations that disagree in the last digits is closer to the truth.
 """
 
 import sys
+from fractions import Fraction
 
 import numpy as np
 import scipy
@@ -40,6 +49,67 @@ if not scipy.__version__.startswith("1.10."):
 def uneven_knots(rng, n_points, lo=0.2, hi=3.0, start=0.0):
     """Strictly increasing parameters with spacings drawn uniformly from [lo, hi)."""
     return start + np.concatenate(([0.0], np.cumsum(rng.uniform(lo, hi, n_points - 1))))
+
+
+def exact_spline(u, y, bc, start=None, end=None):
+    """Piece coefficients (c0..c3 in s = u - u_i) of the exact spline through (u, y), Fractions.
+
+    Unknowns: the 4 coefficients of every piece; rows: value at both ends of each piece, C1 and C2
+    at interior knots, and the two end conditions; solved by exact Gauss-Jordan elimination."""
+    u = [Fraction(float(v)) for v in u]
+    y = [Fraction(float(v)) for v in y]
+    n = len(u) - 1
+    h = [u[i + 1] - u[i] for i in range(n)]
+    rows = []
+
+    def row(entries, rhs):
+        r = [Fraction(0)] * (4 * n) + [Fraction(rhs)]
+        for col, val in entries:
+            r[col] = Fraction(val)
+        rows.append(r)
+
+    for i in range(n):
+        row([(4 * i, 1)], y[i])
+        row([(4 * i, 1), (4 * i + 1, h[i]), (4 * i + 2, h[i] ** 2), (4 * i + 3, h[i] ** 3)], y[i + 1])
+        if i + 1 < n:
+            row([(4 * i + 1, 1), (4 * i + 2, 2 * h[i]), (4 * i + 3, 3 * h[i] ** 2), (4 * i + 5, -1)], 0)
+            row([(4 * i + 2, 2), (4 * i + 3, 6 * h[i]), (4 * i + 6, -2)], 0)
+    if bc == "clamped":
+        row([(1, 1)], Fraction(float(start)))
+        row([(4 * (n - 1) + 1, 1), (4 * (n - 1) + 2, 2 * h[-1]), (4 * (n - 1) + 3, 3 * h[-1] ** 2)],
+            Fraction(float(end)))
+    elif n == 1:  # not-a-knot, 2 points: the line
+        row([(2, 1)], 0)
+        row([(3, 1)], 0)
+    elif n == 2:  # not-a-knot, 3 points: the parabola
+        row([(3, 1)], 0)
+        row([(7, 1)], 0)
+    else:  # not-a-knot: third derivative continuous at u_1 and u_{n-1}
+        row([(3, 1), (7, -1)], 0)
+        row([(4 * (n - 2) + 3, 1), (4 * (n - 1) + 3, -1)], 0)
+    size = 4 * n
+    for c in range(size):
+        p = next(r for r in range(c, size) if rows[r][c] != 0)
+        rows[c], rows[p] = rows[p], rows[c]
+        pivot = rows[c][c]
+        rows[c] = [v / pivot for v in rows[c]]
+        for r in range(size):
+            if r != c and rows[r][c] != 0:
+                f = rows[r][c]
+                rows[r] = [a - f * b for a, b in zip(rows[r], rows[c])]
+    x = [rows[i][size] for i in range(size)]
+    return u, [x[4 * i:4 * i + 4] for i in range(n)]
+
+
+def exact_eval(knots, coeffs, x, d):
+    """d-th derivative of the exact spline at the double x (the end pieces continue outside)."""
+    xf = Fraction(float(x))
+    i = 0
+    while i + 1 < len(coeffs) and xf >= knots[i + 1]:
+        i += 1
+    s = xf - knots[i]
+    c0, c1, c2, c3 = coeffs[i]
+    return float([c0 + s * (c1 + s * (c2 + s * c3)), c1 + s * (2 * c2 + 3 * c3 * s), 2 * c2 + 6 * c3 * s, 6 * c3][d])
 
 
 def emit_case(name, u, q, bc, slopes=None, rng=None):
@@ -72,6 +142,13 @@ def emit_case(name, u, q, bc, slopes=None, rng=None):
         for d in range(4):
             vals = spline(x, nu=d)
             lines.append(f"e {float(x)!r} {d} " + " ".join(repr(float(v)) for v in np.atleast_1d(vals)))
+    if n_points <= 40:
+        exact = [exact_spline(u, q[:, a], bc, *((start[a], end[a]) if bc == "clamped" else ()))
+                 for a in range(axes)]
+        for x in queries:
+            for d in range(4):
+                vals = [exact_eval(kn, co, x, d) for kn, co in exact]
+                lines.append(f"x {float(x)!r} {d} " + " ".join(repr(v) for v in vals))
     lines.append("end")
     print("\n".join(lines))
 

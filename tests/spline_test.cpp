@@ -170,6 +170,7 @@ struct ScipyCase {
     std::vector<double> values;
   };
   std::vector<Eval> evals;
+  std::vector<Eval> exact;  // the exact spline at the same queries (cases of up to 40 points)
 };
 
 std::vector<ScipyCase> read_scipy_cases(const std::string& path) {
@@ -205,13 +206,13 @@ std::vector<ScipyCase> read_scipy_cases(const std::string& path) {
       ls >> c->u[p];
       for (Index a = 0; a < c->axes; ++a) ls >> c->q(p, a);
       ++p;
-    } else if (tag == "e") {
+    } else if (tag == "e" || tag == "x") {
       REQUIRE(c != nullptr);
       ScipyCase::Eval e;
       ls >> e.u >> e.deriv;
       e.values.resize(std::size_t(c->axes));
       for (auto& v : e.values) ls >> v;
-      c->evals.push_back(std::move(e));
+      (tag == "e" ? c->evals : c->exact).push_back(std::move(e));
     } else if (tag == "end") {
       REQUIRE(c != nullptr);
       REQUIRE(p == c->points);
@@ -361,6 +362,43 @@ TEST_CASE("spline: not-a-knot and clamped agree with SciPy 1.10 CubicSpline", "[
     }
   }
   CHECK(compared > 10000);
+}
+
+TEST_CASE("spline: not-a-knot and clamped agree with the exact rational spline", "[spline][scipy]") {
+  // Source: the exact spline of each case of up to 40 points in tests/data/scipy_cubicspline.txt
+  // ('x' records): defined by its interpolation, continuity and end conditions and solved in
+  // rational arithmetic (Python's fractions) by tests/make_scipy_reference.py, then rounded once.
+  // Both c2path and the SciPy values must be within 1e-12 of it relative to the size of the
+  // quantity in the case (third derivatives 2e-12; see the SciPy test above for why they are
+  // more sensitive).
+  const auto cases = read_scipy_cases(std::string(C2PATH_TEST_DATA) + "/scipy_cubicspline.txt");
+  std::size_t with_exact = 0;
+  for (const auto& c : cases) {
+    if (c.exact.empty()) continue;
+    ++with_exact;
+    INFO("exact case " << c.name << " (" << c.bc << ", " << c.points << " points, " << c.axes << " axes)");
+    REQUIRE(c.exact.size() == c.evals.size());
+    const SplineOptions o = c.bc == "clamped" ? clamped(c.start_slope, c.end_slope) : SplineOptions{};
+    const CubicSpline s = CubicSpline::fit(c.u, c.q, o);
+    std::map<std::pair<Index, int>, double> scale;
+    for (const auto& e : c.exact)
+      for (Index a = 0; a < c.axes; ++a) {
+        double& m = scale[{a, e.deriv}];
+        m = std::max(m, std::abs(e.values[std::size_t(a)]));
+      }
+    for (std::size_t k = 0; k < c.exact.size(); ++k) {
+      const auto& x = c.exact[k];
+      REQUIRE(x.u == c.evals[k].u);
+      REQUIRE(x.deriv == c.evals[k].deriv);
+      for (Index a = 0; a < c.axes; ++a) {
+        INFO("u = " << x.u << ", axis " << a << ", derivative " << x.deriv);
+        const double tol = (x.deriv == 3 ? 2e-12 : 1e-12) * scale[{a, x.deriv}];
+        C2PATH_CHECK_NEAR("ours vs exact", k, s.eval(x.u, a, x.deriv), x.values[std::size_t(a)], 0.0, tol);
+        C2PATH_CHECK_NEAR("SciPy vs exact", k, c.evals[k].values[std::size_t(a)], x.values[std::size_t(a)], 0.0, tol);
+      }
+    }
+  }
+  CHECK(with_exact == 13);
 }
 
 // ---- Mathematical facts ----------------------------------------------------------------------
