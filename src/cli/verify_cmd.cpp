@@ -47,6 +47,7 @@ int run_verify(const VerifyArgs& a) {
     o.rate = parse_frame_rate(a.fps);
     if (!o.rate) throw Error("--fps " + a.fps + " is not a camera frame rate (23.976, 24, 25, 29.97, 30, 48, 50, 59.94, 60)");
   }
+  if (a.scene == "-" && a.file == "-") throw Error("only one of SCENE and FILE can be - (standard input)");
   const Scene scene = load_scene_file(a.scene);
   const VerifyResult r = verify_file(scene, a.file, o);
   const std::string name = a.file == "-" ? "<stdin>" : a.file;
