@@ -352,9 +352,9 @@ TEST_CASE("spline: not-a-knot and clamped agree with SciPy 1.10 CubicSpline", "[
         // 1e-12 relative to the size of the quantity in the case; third derivatives 5e-12: on short
         // pieces (h = 0.02 in cos_zero_slopes) q''' = 6 (s_i + s_{i+1} - 2 m_i) / h^2 amplifies the
         // rounding of the slopes, and both SciPy and c2path are about 1e-12 (relative) away from the
-        // exact spline there (checked once against the spline solved in exact rational arithmetic
-        // with Python's fractions: SciPy 9.8e-13, c2path 1.2e-12); everywhere else both are within
-        // a few 1e-14.
+        // exact spline there, in different directions (SciPy 9.8e-13, c2path 1.2e-12; the next
+        // test checks both against the exact rational spline); everywhere else both are within a
+        // few 1e-14 of it.
         const double tol = (e.deriv == 3 ? 5e-12 : 1e-12) * scale[{a, e.deriv}];
         C2PATH_CHECK_NEAR("ours vs SciPy", k, s.eval(e.u, a, e.deriv), e.values[std::size_t(a)], 0.0, tol);
         ++compared;
