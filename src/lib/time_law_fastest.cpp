@@ -113,6 +113,17 @@ Grid make_grid(const Path& path, double ua, double ub, const std::vector<double>
 class Topp {
  public:
   Topp(const Grid& g, const std::vector<AxisLim>& lim) : g_(g), lim_(lim), m_(lim.size()) {
+    // Acceleration lines per point and axis: w in [-r + s x, r + s x], r = A/|b|, s = -c/b
+    // (r = 0: no line, the axis has no acceleration limit or b = 0).
+    r_.assign(g.points() * m_, 0.0);
+    s_.assign(g.points() * m_, 0.0);
+    for (std::size_t i = 0; i < g.points(); ++i)
+      for (std::size_t a = 0; a < m_; ++a) {
+        const double b = g_.d1[i * m_ + a];
+        if (!(lim_[a].acc < kInf) || b == 0.0) continue;
+        r_[i * m_ + a] = lim_[a].acc / std::abs(b);
+        s_[i * m_ + a] = -g_.d2[i * m_ + a] / b;
+      }
     jcap_.assign(g.points(), kInf);
     for (std::size_t i = 0; i < g.points(); ++i)
       for (std::size_t a = 0; a < m_; ++a) {
@@ -171,11 +182,12 @@ class Topp {
     slo = -1.0 / h2;
     hi = (knext - x) / h2;
     shi = -1.0 / h2;
+    const double* rr = &r_[i * m_];
+    const double* ss = &s_[i * m_];
+    const double as = ascale_[i];
     for (std::size_t a = 0; a < m_; ++a) {
-      if (!(lim_[a].acc < kInf)) continue;
-      const double b = g_.d1[i * m_ + a];
-      if (b == 0.0) continue;
-      const double r = lim_[a].acc * ascale_[i] / std::abs(b), s = -g_.d2[i * m_ + a] / b;
+      if (!(rr[a] > 0.0)) continue;
+      const double r = rr[a] * as, s = ss[a];
       const double l = -r + s * x, h = r + s * x;
       if (l > lo) { lo = l; slo = s; }
       if (h < hi) { hi = h; shi = s; }
@@ -215,7 +227,7 @@ class Topp {
   const Grid& g_;
   const std::vector<AxisLim>& lim_;
   std::size_t m_;
-  std::vector<double> cap_, ascale_, jcap_;
+  std::vector<double> cap_, ascale_, jcap_, r_, s_;
 };
 
 std::shared_ptr<detail::BaseLaw> base_law(const Grid& g, const std::vector<double>& x) {
@@ -257,24 +269,44 @@ double window(const Grid& g, const detail::BaseLaw& b, const std::vector<AxisLim
 }
 
 // Times at which a smoothed segment is verified: its breaks (and the midpoints between them).
-std::vector<double> sample_times(const detail::BaseLaw& b, double tau, bool midpoints) {
+// Times at which a smoothed segment is verified: its breaks t_i and t_i + tau (tags 2i and 2i+1),
+// and with `midpoints` also the midpoints between them (tags then 2 tag and 2 tag + 1 of the break
+// at or before the sample).
+std::vector<double> sample_times(const detail::BaseLaw& b, double tau, bool midpoints, std::vector<std::uint32_t>& tags) {
   const std::size_t n = b.t.size();
   std::vector<double> br;
   br.reserve(2 * n);
+  tags.clear();
   std::size_t i = 0, j = 0;
   while (i < n || j < n) {
     double x;
-    if (j >= n || (i < n && b.t[i] <= b.t[j] + tau)) x = b.t[i++];
-    else x = b.t[j++] + tau;
-    if (br.empty() || x > br.back()) br.push_back(x);
+    std::uint32_t tag;
+    if (j >= n || (i < n && b.t[i] <= b.t[j] + tau)) {
+      tag = std::uint32_t(2 * i);
+      x = b.t[i++];
+    } else {
+      tag = std::uint32_t(2 * j + 1);
+      x = b.t[j++] + tau;
+    }
+    if (br.empty() || x > br.back()) {
+      br.push_back(x);
+      tags.push_back(tag);
+    }
   }
   if (!midpoints) return br;
   std::vector<double> s;
+  std::vector<std::uint32_t> st;
   s.reserve(2 * br.size());
+  st.reserve(2 * br.size());
   for (std::size_t k = 0; k < br.size(); ++k) {
     s.push_back(br[k]);
-    if (k + 1 < br.size()) s.push_back(0.5 * (br[k] + br[k + 1]));
+    st.push_back(2 * tags[k]);
+    if (k + 1 < br.size()) {
+      s.push_back(0.5 * (br[k] + br[k + 1]));
+      st.push_back(2 * tags[k] + 1);
+    }
   }
+  tags.swap(st);
   return s;
 }
 
@@ -302,30 +334,57 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
     ilim[a * 3 + 1] = lim[a].acc < kInf ? 1.0 / lim[a].acc : 0.0;
     ilim[a * 3 + 2] = lim[a].jerk < kInf ? 1.0 / lim[a].jerk : 0.0;
   }
-  // Per axis and quantity: the samples (index, ratio to the planned limit) near enough to bind.
-  std::vector<std::vector<std::pair<std::uint32_t, float>>> cand(m * 3);
+  // Per sample tag: bit 3a+q set when quantity q of axis a is near enough to its limit to bind
+  // (ratio >= near_q[q]); kept across rounds, updated for the samples a round re-verifies.
+  const std::size_t words = (3 * m + 63) / 64;
+  std::vector<std::uint64_t> bind(4 * n * words, 0);
+  double near_q[3];
   std::vector<double> ts;
   double kmax = 1.0;
   int repairs = 0;
-  // Rounds of TOPP-RA and verification at the breaks of the smoothed law, slowing TOPP-RA down
-  // where a sample exceeds a limit; then one dense verification (breaks and midpoints) of the last
-  // law for the stretch and the binding intervals.
+  // Rounds of TOPP-RA and verification at the breaks of the smoothed law and the midpoints between
+  // them, slowing TOPP-RA down where a sample exceeds a limit; then one more full verification of
+  // the last law for the stretch and the binding intervals.
+  //
+  // A repair round re-verifies only the samples whose window touches a grid interval whose speeds
+  // changed, or that exceeded a limit in the round before: every other sample sees the same base
+  // law in its window (shifted in time) and so gives the same values as before.
   bool dense = false;
+  std::vector<double> x_prev;
+  std::vector<std::size_t> changed_before(n, 0);  // changed intervals among [0, i)
+  std::vector<char> viol_prev, viol_now;
+  std::vector<std::uint32_t> tags;
   for (int iter = 0;; ++iter) {
     if (!dense) {
-      const std::vector<double> x = topp.solve(kappa);
+      std::vector<double> x = topp.solve(kappa);
       part->base = base_law(g, x);
       if (iter == 0) tau = window(g, *part->base, lim);
       part->tau = tau;
       part->k = 1.0;
+      if (!x_prev.empty()) {
+        std::size_t c = 0;
+        for (std::size_t i = 0; i + 1 < n; ++i) {
+          changed_before[i] = c;
+          if (x[i] != x_prev[i] || x[i + 1] != x_prev[i + 1]) ++c;
+        }
+        changed_before[n - 1] = c;
+      }
+      x_prev = std::move(x);
     }
+    const bool partial = !dense && iter > 0;
+    viol_now.assign(4 * n, 0);
     // Verify the smoothed law at its breaks and midpoints, in one sweep: cursors for the base
     // intervals at s and s - tau, and for the grid interval of u. The path derivatives come from
     // the Taylor expansion at the grid point below u (exact for piecewise-cubic paths, whose
     // breaks are all grid points; the final check evaluates the path itself).
-    ts = sample_times(*part->base, tau, dense);
-    for (auto& c : cand) c.clear();
-    const double near_limit = o.binding_fraction / kSafety;
+    ts = sample_times(*part->base, tau, true, tags);
+    {
+      const double near_limit = o.binding_fraction / kSafety;
+      const double kp = dense ? kmax : 1.0;
+      near_q[0] = near_limit * kp;
+      near_q[1] = near_limit * kp * kp;
+      near_q[2] = near_limit * kp * kp * kp;
+    }
     std::vector<double> need(n, 1.0);
     struct Slow {
       std::size_t i0, i1;
@@ -360,12 +419,18 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       const double s = ts[k];
       double hi[3], lo[3];
       const double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
+      if (partial) {
+        const std::size_t i0 = (s - tau > 0.0) ? il : 0, i1 = std::min(ih + 1, n - 1);
+        if (changed_before[i1] == changed_before[i0] && !viol_prev[tags[k]]) continue;
+      }
       const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
       const double uu = s - tau >= T0 ? L : std::min(L, (ahi - alo) * itau);
       const double ur = uu + g.u[0];
       while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
       const double dl = ur - g.u[ig];
       double rv = 0.0, ra = 0.0, rj = 0.0;
+      std::uint64_t* bits = &bind[std::size_t(tags[k]) * words];
+      std::fill(bits, bits + words, 0);
       const double* p1 = &g.d1[ig * m];
       const double* p2 = &g.d2[ig * m];
       const double* p3 = &g.d3[ig * m];
@@ -376,7 +441,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
         const double j = std::abs(q3 * u1 * u1 * u1 + 3.0 * q2 * u1 * u2 + q1 * u3);
         const double r[3] = {v * ilim[a * 3], acc * ilim[a * 3 + 1], j * ilim[a * 3 + 2]};
         for (std::size_t q = 0; q < 3; ++q)
-          if (r[q] >= near_limit) cand[a * 3 + q].push_back({std::uint32_t(k), float(r[q])});
+          if (r[q] >= near_q[q]) bits[(a * 3 + q) / 64] |= std::uint64_t(1) << ((a * 3 + q) % 64);
         rv = std::max(rv, r[0]);
         ra = std::max(ra, r[1]);
         rj = std::max(rj, r[2]);
@@ -384,6 +449,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       const double kneed = std::max({1.0, rv, std::sqrt(std::max(ra, rj))});
       if (rv > kmax || ra > kmax * kmax || rj > kmax * kmax * kmax) kmax = std::max({kmax, rv, std::sqrt(ra), std::cbrt(rj)});
       if (kneed > 1.0) {
+        if (!dense) viol_now[tags[k]] = 1;
         // The base law inside the window [s - tau, s] made this sample: slow it down there.
         slow.push_back({(s - tau > 0.0) ? il : 0, std::min(ih + 1, n - 1), kneed * 1.001});
       }
@@ -404,9 +470,11 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       }
     }
     if (dense) break;
+    viol_prev.swap(viol_now);
     if (kmax <= 1.0 || iter >= o.repair_iterations) {
       repairs = iter;
-      dense = true;
+      if (kmax <= 1.0) break;  // the bits are those of this law
+      dense = true;            // stretched: one more full pass for the bits at the stretched limits
       continue;
     }
     for (std::size_t i = 0; i < n; ++i) kappa[i] *= need[i];
@@ -419,23 +487,23 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   sp.grid_points = n;
   sp.repairs = repairs;
   // Binding intervals: consecutive samples where a quantity is at >= binding_fraction of its limit.
-  const double kp[3] = {kmax, kmax * kmax, kmax * kmax * kmax};
   for (std::size_t a = 0; a < m; ++a)
     for (std::size_t q = 0; q < 3; ++q) {
       const Quantity qq = q == 0 ? Quantity::kVel : q == 1 ? Quantity::kAcc : Quantity::kJerk;
+      const std::size_t bit = a * 3 + q;
       bool open = false;
       Binding cur;
-      std::uint32_t last = 0;
-      for (const auto& [k, r] : cand[a * 3 + q]) {
-        if (!(double(r) * kSafety / kp[q] >= o.binding_fraction)) continue;
-        if (open && k == last + 1) {
-          cur.t_end = ts[k] * kmax;
-        } else {
-          if (open) sp.binding.push_back(cur);
+      for (std::size_t k = 0; k < ts.size(); ++k) {
+        const bool on = (bind[std::size_t(tags[k]) * words + bit / 64] >> (bit % 64)) & 1u;
+        if (on && !open) {
           cur = {Index(a), qq, ts[k] * kmax, ts[k] * kmax};
           open = true;
+        } else if (on) {
+          cur.t_end = ts[k] * kmax;
+        } else if (open) {
+          sp.binding.push_back(cur);
+          open = false;
         }
-        last = k;
       }
       if (open) sp.binding.push_back(cur);
     }
