@@ -131,11 +131,13 @@ struct SampleGrid {
 struct Reconstruction {
   std::vector<double> linear;   ///< piecewise linear through the positions [unit], size axes
   std::vector<double> hermite;  ///< piecewise cubic Hermite through positions and velocities [unit]
-  /// How it is measured: the trajectory is compared at the quarter points and the midpoint of every
-  /// interval between samples, and at 16 evenly spaced points of each interval that holds a break
-  /// of the trajectory (where the jerk may jump). An estimate from below of the true maximum; for
-  /// a parabola the midpoint gives the linear maximum exactly.
-  std::size_t points = 0;       ///< number of comparison points
+  /// How it is measured: exactly when the trajectory is piecewise cubic in time (keyframes): on
+  /// each stretch of an interval inside one cubic piece the error is a cubic, maximised at the
+  /// roots of its derivative. Otherwise the trajectory is compared at the quarter points and the
+  /// midpoint of every interval, and at 16 evenly spaced points of each interval that holds a break
+  /// (where the jerk may jump): an estimate from below of the true maximum.
+  bool exact = false;
+  std::size_t points = 0;       ///< number of comparisons (stretches analysed, or points)
   double t_last = 0;            ///< time of the last sample [s]; nothing after it is compared
 };
 

@@ -157,7 +157,9 @@ int run_export(const ExportArgs& a) {
       j["max_error"] = *a.max_error;
       j["chosen_by"] = choice->message;
     }
-    j["reconstruction"] = "largest deviation found at the quarter points and midpoint of every interval (16 points where the trajectory has a break), in scene units";
+    j["reconstruction"] = rec.exact ? "exact largest deviation (piecewise-cubic move), in scene units"
+                                    : "largest deviation found at the quarter points and midpoint of every interval (16 points where the trajectory has a break), in scene units";
+    j["reconstruction_exact"] = rec.exact;
     nlohmann::ordered_json axes = nlohmann::ordered_json::array();
     for (std::size_t i = 0; i < names.size(); ++i) {
       nlohmann::ordered_json ax;
@@ -184,7 +186,8 @@ int run_export(const ExportArgs& a) {
     std::printf("last %s %zu at t %s s, the last whole %s at or before the end (%s s earlier than t %s s)\n",
                 o.frames ? "frame" : "sample", g.count - 1, text(t_last).c_str(), o.frames ? "frame" : "sample period",
                 text(g.t_end - t_last).c_str(), text(g.t_end).c_str());
-  std::printf("reconstruction error from these samples (largest deviation found, scene units):\n");
+  std::printf("reconstruction error from these samples (%s, scene units):\n",
+              rec.exact ? "exact largest deviation" : "largest deviation found at 3 points per interval, an estimate from below");
   std::printf("  %-10s %-8s %14s %14s%s\n", "axis", "unit", "linear", "cubic Hermite", o.units == ExportUnits::kCounts ? "  rounding to counts" : "");
   for (std::size_t i = 0; i < names.size(); ++i) {
     std::printf("  %-10s %-8s %14s %14s", names[i].c_str(), l.scene.axes[i].unit.c_str(), num(rec.linear[i], 4).c_str(),

@@ -450,6 +450,85 @@ Reconstruction reconstruct_range(const Trajectory& tr, const SampleGrid& g, cons
   return r;
 }
 
+// Largest |e(x)| of the cubic e(x) = e0 + e1 x + e2 x^2 + e3 x^3 on [xa, xb]: at the ends and at
+// the real roots of e'(x) inside.
+double cubic_max_abs(const double e[4], double xa, double xb) {
+  auto val = [&](double x) { return std::abs(((e[3] * x + e[2]) * x + e[1]) * x + e[0]); };
+  double best = std::max(val(xa), val(xb));
+  const double A = 3 * e[3], B = 2 * e[2], C = e[1];
+  auto consider = [&](double x) {
+    if (x > xa && x < xb) best = std::max(best, val(x));
+  };
+  const double scale = std::abs(A) * (xb - xa) + std::abs(B);
+  if (std::abs(A) * (xb - xa) <= 1e-14 * scale || A == 0.0) {
+    if (B != 0.0) consider(-C / B);
+    return best;
+  }
+  const double disc = B * B - 4 * A * C;
+  if (disc < 0) return best;
+  const double sq = std::sqrt(disc);
+  const double qq = -0.5 * (B + (B >= 0 ? sq : -sq));  // stable quadratic roots
+  if (qq != 0.0) {
+    consider(qq / A);
+    consider(C / qq);
+  } else {
+    consider(0.0);
+  }
+  return best;
+}
+
+// The same as reconstruct_range, exactly, for a trajectory that is piecewise cubic in time: on each
+// stretch of an interval inside one cubic piece the error is itself a cubic, whose largest
+// magnitude comes from the roots of its derivative.
+Reconstruction reconstruct_range_exact(const Trajectory& tr, const std::vector<CubicSpline>& splines, const SampleGrid& g,
+                                       std::size_t k0, std::size_t k1) {
+  const Index m = tr.axes();
+  Reconstruction r;
+  r.linear.assign(std::size_t(m), 0.0);
+  r.hermite.assign(std::size_t(m), 0.0);
+  struct Piece {
+    double t0;
+    const CubicSpline* s;
+    Index p;
+  };
+  std::vector<Piece> pieces;
+  for (const auto& sp : splines)
+    for (Index p = 0; p < sp.pieces(); ++p) pieces.push_back({sp.breaks()[std::size_t(p)], &sp, p});
+  Eigen::MatrixXd s0(m, 4), s1(m, 4);
+  double t0 = g.time(k0);
+  tr.eval_all(t0, s0);
+  std::size_t j = 0;  // piece holding t0
+  while (j + 1 < pieces.size() && pieces[j + 1].t0 <= t0) ++j;
+  for (std::size_t k = k0 + 1; k <= k1; ++k) {
+    const double t1 = g.time(k);
+    const double h = t1 - t0;
+    if (!(h > 0.0)) continue;
+    tr.eval_all(t1, s1);
+    while (j + 1 < pieces.size() && pieces[j + 1].t0 <= t0) ++j;
+    for (std::size_t i = j; i < pieces.size() && (i == j || pieces[i].t0 < t1); ++i) {
+      const double xa = std::max(pieces[i].t0, t0) - t0;
+      const double xb = (i + 1 < pieces.size() ? std::min(pieces[i + 1].t0, t1) : t1) - t0;
+      if (!(xb > xa)) continue;
+      for (Index a = 0; a < m; ++a) {
+        const double* c = pieces[i].s->coeffs(pieces[i].p, a);
+        const double sx = t0 - pieces[i].t0;  // q(t0 + x) as a cubic in x (Taylor at t0 of this piece's cubic)
+        const double q[4] = {cubic_eval(c, sx, 0), cubic_eval(c, sx, 1), cubic_eval(c, sx, 2) / 2, c[3]};
+        const double q0 = s0(a, 0), q1 = s1(a, 0), v0 = s0(a, 1), v1 = s1(a, 1);
+        const double d = (q1 - q0) / h;
+        const double el[4] = {q[0] - q0, q[1] - d, q[2], q[3]};
+        const double eh[4] = {q[0] - q0, q[1] - v0, q[2] - (3 * d - 2 * v0 - v1) / h, q[3] - (v0 + v1 - 2 * d) / (h * h)};
+        r.linear[std::size_t(a)] = std::max(r.linear[std::size_t(a)], cubic_max_abs(el, xa, xb));
+        r.hermite[std::size_t(a)] = std::max(r.hermite[std::size_t(a)], cubic_max_abs(eh, xa, xb));
+      }
+      ++r.points;
+    }
+    s0.swap(s1);
+    t0 = t1;
+  }
+  r.t_last = t0;
+  return r;
+}
+
 }  // namespace
 
 Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o) {
@@ -466,7 +545,8 @@ Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o
     const std::size_t k0 = intervals * w / workers, k1 = intervals * (w + 1) / workers;
     auto job = [&, w, k0, k1] {
       try {
-        parts[w] = reconstruct_range(tr, g, br, k0, k1);
+        parts[w] = tr.cubic_pieces() ? reconstruct_range_exact(tr, *tr.cubic_pieces(), g, k0, k1)
+                                     : reconstruct_range(tr, g, br, k0, k1);
       } catch (...) {
         errors[w] = std::current_exception();
       }
@@ -487,6 +567,7 @@ Reconstruction reconstruction_error(const Trajectory& tr, const ExportOptions& o
     r.points += parts[w].points;
   }
   r.t_last = parts.back().t_last;
+  r.exact = tr.cubic_pieces() != nullptr;
   return r;
 }
 
