@@ -95,6 +95,10 @@ void App::frame(double dt_s) {
   backdrops_.clear();
   sync_plan();
   handle_keys();
+  if (opt_.spin) {  // measurement: the camera moves every frame (no cached path), playback runs
+    yaw_ += 0.01f;
+    playing_ = true;
+  }
   if (playing_ && have_samples_) {
     const auto& tr = *doc_.shown()->plan.trajectory;
     t_ += dt_s * rate_;

@@ -31,6 +31,7 @@ struct AppOptions {
   double time_s = -1.0;     ///< playhead at start; < 0: start of the move (screenshots: 40 %)
   ColourBy colour = ColourBy::kLimitPct;
   bool headless = false;
+  bool spin = false;        ///< measurement: orbit the 3D view and play, every frame
 };
 
 class App {
@@ -94,6 +95,10 @@ class App {
   void coords_of_point(const std::vector<double>& q, double t, double c[3]) const;
   void draw_path(ImDrawList* dl);
   void thin_path();
+  void prethin_path();
+  std::vector<std::size_t> pre_idx_;  // samples kept by the view-independent thinning
+  std::vector<float> pre_val_;        // their colour values
+  std::vector<float> pre_key_;        // what pre_idx_ was computed for
   struct Seg {
     ImVec2 a, b;
     float v;  // colour value
@@ -146,7 +151,9 @@ class App {
   std::vector<ImVec2> handle_proj_;  // projected waypoints
   std::vector<std::size_t> handle_list_;  // waypoints drawn after screen-space thinning
   std::vector<float> handle_key_;    // what handle_proj_ and handle_list_ were computed for
-  bool handles_dense_ = false;  // screen cells already holding a handle (per frame)
+  bool handles_dense_ = false;
+  std::vector<float> handle_c3_;    // normalised waypoint coordinates, 3 per waypoint
+  std::vector<float> handle_ckey_;  // what handle_c3_ was computed for  // screen cells already holding a handle (per frame)
   float speed_max_ = 0.0f;
   std::uint64_t speed_generation_ = ~std::uint64_t(0);
   int speed_map_[3] = {-9, -9, -9};

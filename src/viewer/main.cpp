@@ -52,7 +52,7 @@ struct Args {
   std::string scene, screenshot, tab, colour = "limit";
   int frames = -1, width = 1280, height = 800;
   double time_s = -1.0;
-  bool timing = false, check_pixels = false, edit_each_frame = false, selftest_ui = false;
+  bool timing = false, check_pixels = false, edit_each_frame = false, selftest_ui = false, spin = false;
 };
 
 const char* kUsage =
@@ -68,6 +68,7 @@ const char* kUsage =
     "  --timing               print mean and max frame time at exit\n"
     "  --check-pixels         with --screenshot: fail (exit 3) unless the PNG shows a path and plots\n"
     "  --selftest-ui          with --screenshot: script mouse and keys (drag, undo, scrub, play, add, delete)\n"
+    "  --spin                 measurement: orbit the 3D view and play, every frame\n"
     "  --edit-each-frame      measurement: move the middle waypoint a little every frame (re-plans each frame)\n"
     "  --help, --version\n";
 
@@ -181,6 +182,8 @@ int main(int argc, char** argv) {
       a.colour = v;
     } else if (s == "--timing") {
       a.timing = true;
+    } else if (s == "--spin") {
+      a.spin = true;
     } else if (s == "--selftest-ui") {
       a.selftest_ui = true;
     } else if (s == "--edit-each-frame") {
@@ -245,6 +248,7 @@ int main(int argc, char** argv) {
   opt.time_s = a.time_s;
   opt.colour = a.colour == "speed" ? ColourBy::kSpeed : ColourBy::kLimitPct;
   opt.headless = headless;
+  opt.spin = a.spin;
   App app(doc, opt);
 
   using Clock = std::chrono::steady_clock;

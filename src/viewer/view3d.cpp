@@ -177,40 +177,14 @@ void App::draw_path(ImDrawList* dl) {
   }
 }
 
-void App::thin_path() {
+void App::prethin_path() {
+  // Object-space thinning, independent of the view direction: an orthographic view maps a 3D
+  // offset e to at most |e| * scale pixels, so dropping points that lie within eps of the chord
+  // between kept points (eps = 0.3 px / the largest scale of the current zoom step) keeps the
+  // drawn error below 0.3 px for every orientation. Runs are capped at 64 samples (bounded cost:
+  // each extension re-checks the run) and end where the colour level changes.
   const std::size_t n = samples_.n;
-  proj_.resize(n);
   value_.resize(n);
-  // Screen position as an affine function of the raw values of the mapped quantities.
-  const float* src[3] = {nullptr, nullptr, nullptr};
-  std::vector<float> tf;
-  float fx[3] = {0, 0, 0}, fy[3] = {0, 0, 0};
-  float ox = xf_o_.x, oy = xf_o_.y;
-  for (int k = 0; k < 3; ++k) {
-    if (map_[k] == kMapNone) continue;
-    const float inv = float(1.0 / half_[k]);
-    fx[k] = xf_[0][k] * inv;
-    fy[k] = xf_[1][k] * inv;
-    if (map_[k] >= 0) src[k] = samples_.series(0, std::size_t(map_[k]));
-    else {
-      tf.resize(n);
-      for (std::size_t i = 0; i < n; ++i) tf[i] = float(samples_.t[i]);
-      src[k] = tf.data();
-    }
-    ox -= fx[k] * float(centre_[k]);
-    oy -= fy[k] * float(centre_[k]);
-  }
-  for (int k = 0; k < 3; ++k)
-    if (!src[k]) { fx[k] = fy[k] = 0.0f; }
-  for (std::size_t i = 0; i < n; ++i) {
-    float x = ox, y = oy;
-    for (int k = 0; k < 3; ++k)
-      if (src[k]) {
-        x += fx[k] * src[k][i];
-        y += fy[k] * src[k][i];
-      }
-    proj_[i] = {x, y};
-  }
   if (colour_ == ColourBy::kSpeed) {
     update_speed();
     const float inv = speed_max_ > 0 ? 1.0f / speed_max_ : 0.0f;
@@ -219,16 +193,80 @@ void App::thin_path() {
     for (std::size_t i = 0; i < n; ++i) value_[i] = samples_.pct[i] > 100.25f ? 1.5f : std::min(1.0f, samples_.pct[i] / 100.0f);
   }
   auto level = [](float v) { return v > 1.0f ? 1000 : int(v * 40.0f); };
+  std::vector<float> c3(3 * n, 0.0f);
+  for (int k = 0; k < 3; ++k) {
+    if (map_[k] == kMapNone) continue;
+    for (std::size_t i = 0; i < n; ++i) {
+      const double v = map_[k] >= 0 ? double(samples_.q[0][std::size_t(map_[k]) * n + i]) : samples_.t[i];
+      c3[3 * i + std::size_t(k)] = float((v - centre_[k]) / half_[k]);
+    }
+  }
+  const float step = std::floor(std::log2(std::max(scale_, 1e-6f)) * 2.0f);
+  const float scale_hi = std::exp2((step + 1.0f) * 0.5f);
+  const float eps = 0.3f / scale_hi, eps2 = eps * eps;
+  auto dist2_seg = [&](std::size_t p, std::size_t a, std::size_t b) {
+    const float* P = &c3[3 * p];
+    const float* A = &c3[3 * a];
+    const float* B = &c3[3 * b];
+    const float ab[3] = {B[0] - A[0], B[1] - A[1], B[2] - A[2]}, ap[3] = {P[0] - A[0], P[1] - A[1], P[2] - A[2]};
+    const float l2 = ab[0] * ab[0] + ab[1] * ab[1] + ab[2] * ab[2];
+    float t = l2 > 0 ? (ap[0] * ab[0] + ap[1] * ab[1] + ap[2] * ab[2]) / l2 : 0.0f;
+    t = std::clamp(t, 0.0f, 1.0f);
+    const float d[3] = {ap[0] - t * ab[0], ap[1] - t * ab[1], ap[2] - t * ab[2]};
+    return d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
+  };
+  pre_idx_.clear();
+  pre_idx_.push_back(0);
+  std::size_t a = 0, i = 1;
+  while (i < n) {
+    const std::size_t j = i + 1;
+    if (j >= n) break;
+    bool fits = level(value_[j]) == level(value_[a]) && j - a <= 64;
+    for (std::size_t p = a + 1; fits && p < j; ++p) fits = dist2_seg(p, a, j) <= eps2;
+    if (fits) i = j;
+    else {
+      pre_idx_.push_back(i);
+      a = i;
+      i = a + 1;
+    }
+  }
+  if (pre_idx_.back() != n - 1) pre_idx_.push_back(n - 1);
+  pre_val_.resize(pre_idx_.size());
+  for (std::size_t k = 0; k < pre_idx_.size(); ++k) {  // a kept point carries the largest value of its run
+    float v = value_[pre_idx_[k]];
+    if (k > 0)
+      for (std::size_t p = pre_idx_[k - 1] + 1; p < pre_idx_[k]; ++p) v = std::max(v, value_[p]);
+    pre_val_[k] = v;
+  }
+}
+
+void App::thin_path() {
+  const std::vector<float> pre_key = {float(seen_generation_), float(map_[0]), float(map_[1]), float(map_[2]), float(colour_),
+                                      float(centre_[0]), float(centre_[1]), float(centre_[2]), float(half_[0]), float(half_[1]),
+                                      float(half_[2]), std::floor(std::log2(std::max(scale_, 1e-6f)) * 2.0f)};
+  if (pre_key != pre_key_) {
+    pre_key_ = pre_key;
+    prethin_path();
+  }
+  const std::size_t n = pre_idx_.size();
+  proj_.resize(n);
+  double c[3];
+  for (std::size_t k = 0; k < n; ++k) {
+    coords_of_sample(pre_idx_[k], c);
+    proj_[k] = project(c);
+  }
+  const std::vector<float>& val = pre_val_;  // colour value per kept point
+  auto level = [](float v) { return v > 1.0f ? 1000 : int(v * 40.0f); };
 
   // Thinning by screen-space error: a run from the anchor is extended while every point stays
   // within kTol pixels of the line from the anchor to the run's end (a cone of admissible
   // directions, narrowed by each point; O(n)). A run also ends where the colour changes.
-  constexpr float kTol = 0.6f, kTol2 = kTol * kTol;
+  constexpr float kTol = 0.3f, kTol2 = kTol * kTol;  // plus at most 0.3 px from prethin_path()
   auto& segs = segs_;
   segs.clear();
   std::size_t anchor = 0, last = 0;
-  float run_max = value_[0];
-  int run_level = level(value_[0]);
+  float run_max = val[0];
+  int run_level = level(val[0]);
   bool cone = false;
   ImVec2 L{0, 0}, R{0, 0};
   for (std::size_t i = 1; i < n; ++i) {
@@ -236,18 +274,18 @@ void App::thin_path() {
     float r2 = d.x * d.x + d.y * d.y;
     if (r2 <= kTol2) {
       last = i;
-      run_max = std::max(run_max, value_[i]);
+      run_max = std::max(run_max, val[i]);
       continue;
     }
     float r = std::sqrt(r2);
     ImVec2 u{d.x / r, d.y / r};
-    const int li = level(value_[i]);
+    const int li = level(val[i]);
     const bool inside = cone && cross(R, u) >= 0.0f && cross(u, L) >= 0.0f;
     if (li != run_level || (cone && !inside)) {
       if (last != anchor) segs.push_back({proj_[anchor], proj_[last], run_max});
       anchor = last;
       run_level = li;
-      run_max = value_[i];
+      run_max = val[i];
       cone = false;
       d = {proj_[i].x - proj_[anchor].x, proj_[i].y - proj_[anchor].y};
       r2 = d.x * d.x + d.y * d.y;
@@ -269,7 +307,7 @@ void App::thin_path() {
       if (cross(R, right) > 0.0f) R = right;
     }
     last = i;
-    run_max = std::max(run_max, value_[i]);
+    run_max = std::max(run_max, val[i]);
   }
   if (last != anchor) segs.push_back({proj_[anchor], proj_[last], run_max});
   drawn_segments_ = segs.size();
@@ -297,19 +335,38 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
   if (key != handle_key_) {
     handle_key_ = key;
     handle_proj_.resize(n);
-    double c[3];
+    // Normalised coordinates change only with the scene and the mapping; projecting them is
+    // then six multiply-adds per waypoint.
+    std::vector<float> ckey;
+    ckey.push_back(float(doc_.edits()));
+    for (int k = 0; k < 3; ++k) {
+      ckey.push_back(float(map_[k]));
+      ckey.push_back(float(centre_[k]));
+      ckey.push_back(float(half_[k]));
+    }
+    ckey.push_back(float(n));
+    if (ckey != handle_ckey_) {
+      handle_ckey_ = ckey;
+      handle_c3_.resize(3 * n);
+      double c[3];
+      for (std::size_t k = 0; k < n; ++k) {
+        const Waypoint& w = s.waypoints[k];
+        const double t = times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0);
+        coords_of_point(w.q, t, c);
+        for (int j = 0; j < 3; ++j) handle_c3_[3 * k + std::size_t(j)] = float(c[j]);
+      }
+    }
     std::size_t visible = 0;
     for (std::size_t k = 0; k < n; ++k) {
-      const Waypoint& w = s.waypoints[k];
-      const double t = times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0);
-      coords_of_point(w.q, t, c);
-      handle_proj_[k] = project(c);
+      const float* c = &handle_c3_[3 * k];
+      handle_proj_[k] = {xf_o_.x + xf_[0][0] * c[0] + xf_[0][1] * c[1] + xf_[0][2] * c[2],
+                         xf_o_.y + xf_[1][0] * c[0] + xf_[1][1] * c[1] + xf_[1][2] * c[2]};
       if (in_view(handle_proj_[k])) ++visible;
     }
     handles_dense_ = visible > 300;
     // A grid of cells D / sqrt(2) wide holds at most one drawn handle each; a new handle is drawn
     // when no drawn handle within 2 cells is closer than D.
-    const float dmin = handles_dense_ ? 7.0f : 18.0f, cell = dmin / 1.41421356f;
+    const float dmin = handles_dense_ ? 12.0f : 18.0f, cell = dmin / 1.41421356f;
     const int gw = std::max(1, int((vr.max.x - vr.min.x) / cell) + 1), gh = std::max(1, int((vr.max.y - vr.min.y) / cell) + 1);
     occupied_.assign(std::size_t(gw) * std::size_t(gh), 0u);  // index + 1 of the handle in the cell
     auto cell_of = [&](ImVec2 pt, int& cx, int& cy) {
@@ -319,6 +376,7 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
     auto free_at = [&](ImVec2 pt) {
       int cx = 0, cy = 0;
       cell_of(pt, cx, cy);
+      if (occupied_[std::size_t(cy * gw + cx)]) return false;  // same cell: closer than D (the common case)
       for (int y = std::max(0, cy - 2); y <= std::min(gh - 1, cy + 2); ++y)
         for (int x = std::max(0, cx - 2); x <= std::min(gw - 1, cx + 2); ++x) {
           const std::uint32_t o = occupied_[std::size_t(y * gw + x)];
@@ -361,7 +419,7 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
     const Waypoint& w = s.waypoints[k];
     ++drawn_handles_;
     if (!numbered) {
-      dl->AddCircleFilled(pt, 2.5f, col::kHandle, 8);
+      dl->AddCircleFilled(pt, 2.0f, rgba(196, 200, 206, 150), 6);  // dense view: a small, see-through dot
       return;
     }
     const bool sel = int(k) == selected_ || int(k) == drag_wp_;
