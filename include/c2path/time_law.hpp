@@ -98,7 +98,7 @@ struct FastestOptions {
   /// length) steps per piece, so a short move is resolved as finely as a long one.
   int min_steps = 3;
   int max_steps = 24;
-  double bend_step = 0.15;
+  double bend_step = 0.3;
   int min_segment_steps = 400;
   /// Multiplies the number of steps per piece (1 = the documented rule; 10 for convergence tests).
   double grid_factor = 1.0;

@@ -270,13 +270,13 @@ double window(const Grid& g, const detail::BaseLaw& b, const std::vector<AxisLim
 
 // Times at which a smoothed segment is verified: its breaks (and the midpoints between them).
 // Times at which a smoothed segment is verified: its breaks t_i and t_i + tau (tags 2i and 2i+1),
-// and with `midpoints` also the midpoints between them (tags then 2 tag and 2 tag + 1 of the break
-// at or before the sample).
-std::vector<double> sample_times(const detail::BaseLaw& b, double tau, bool midpoints, std::vector<std::uint32_t>& tags) {
+// and the midpoints between them; a sample's tag is 2 tag and 2 tag + 1 of the break at or before it.
+// `s` and `tags` are reused buffers (the result), `br` and `bt` scratch.
+void sample_times(const detail::BaseLaw& b, double tau, std::vector<double>& s, std::vector<std::uint32_t>& tags,
+                  std::vector<double>& br, std::vector<std::uint32_t>& bt) {
   const std::size_t n = b.t.size();
-  std::vector<double> br;
-  br.reserve(2 * n);
-  tags.clear();
+  br.clear();
+  bt.clear();
   std::size_t i = 0, j = 0;
   while (i < n || j < n) {
     double x;
@@ -290,24 +290,19 @@ std::vector<double> sample_times(const detail::BaseLaw& b, double tau, bool midp
     }
     if (br.empty() || x > br.back()) {
       br.push_back(x);
-      tags.push_back(tag);
+      bt.push_back(tag);
     }
   }
-  if (!midpoints) return br;
-  std::vector<double> s;
-  std::vector<std::uint32_t> st;
-  s.reserve(2 * br.size());
-  st.reserve(2 * br.size());
+  s.clear();
+  tags.clear();
   for (std::size_t k = 0; k < br.size(); ++k) {
     s.push_back(br[k]);
-    st.push_back(2 * tags[k]);
+    tags.push_back(2 * bt[k]);
     if (k + 1 < br.size()) {
       s.push_back(0.5 * (br[k] + br[k + 1]));
-      st.push_back(2 * tags[k] + 1);
+      tags.push_back(2 * bt[k] + 1);
     }
   }
-  tags.swap(st);
-  return s;
 }
 
 struct SegmentPlan {
@@ -353,7 +348,14 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   std::vector<double> x_prev;
   std::vector<std::size_t> changed_before(n, 0);  // changed intervals among [0, i)
   std::vector<char> viol_prev, viol_now;
-  std::vector<std::uint32_t> tags;
+  std::vector<std::uint32_t> tags, scratch_tag;
+  std::vector<double> scratch_t, need(n);
+  struct Slow {
+    std::size_t i0, i1;
+    double f;
+  };
+  std::vector<Slow> slow;
+  std::vector<std::size_t> dq;
   for (int iter = 0;; ++iter) {
     if (!dense) {
       std::vector<double> x = topp.solve(kappa);
@@ -377,7 +379,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
     // intervals at s and s - tau, and for the grid interval of u. The path derivatives come from
     // the Taylor expansion at the grid point below u (exact for piecewise-cubic paths, whose
     // breaks are all grid points; the final check evaluates the path itself).
-    ts = sample_times(*part->base, tau, true, tags);
+    sample_times(*part->base, tau, ts, tags, scratch_t, scratch_tag);
     {
       const double near_limit = o.binding_fraction / kSafety;
       const double kp = dense ? kmax : 1.0;
@@ -385,12 +387,8 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       near_q[1] = near_limit * kp * kp;
       near_q[2] = near_limit * kp * kp * kp;
     }
-    std::vector<double> need(n, 1.0);
-    struct Slow {
-      std::size_t i0, i1;
-      double f;
-    };
-    std::vector<Slow> slow;
+    need.assign(n, 1.0);
+    slow.clear();
     const detail::BaseLaw& bl = *part->base;
     const double T0 = bl.t.back(), L = bl.u.back();
     kmax = 1.0;
@@ -458,7 +456,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
     // windows increase with the sample, so a sliding maximum (monotone deque) does it in O(n).
     {
       std::size_t next = 0, head = 0;
-      std::vector<std::size_t> dq;  // indices into slow, factors decreasing
+      dq.clear();  // indices into slow, factors decreasing
       for (std::size_t i = 0; i < n; ++i) {
         while (next < slow.size() && slow[next].i0 <= i) {
           while (dq.size() > head && slow[dq.back()].f <= slow[next].f) dq.pop_back();
