@@ -509,6 +509,7 @@ Reconstruction reconstruct_range_exact(const Trajectory& tr, const std::vector<C
       const double xa = std::max(pieces[i].t0, t0) - t0;
       const double xb = (i + 1 < pieces.size() ? std::min(pieces[i + 1].t0, t1) : t1) - t0;
       if (!(xb > xa)) continue;
+      const bool whole = xa == 0.0 && xb == h;  // the interval lies inside this one piece
       for (Index a = 0; a < m; ++a) {
         const double* c = pieces[i].s->coeffs(pieces[i].p, a);
         const double sx = t0 - pieces[i].t0;  // q(t0 + x) as a cubic in x (Taylor at t0 of this piece's cubic)
@@ -518,6 +519,9 @@ Reconstruction reconstruct_range_exact(const Trajectory& tr, const std::vector<C
         const double el[4] = {q[0] - q0, q[1] - d, q[2], q[3]};
         const double eh[4] = {q[0] - q0, q[1] - v0, q[2] - (3 * d - 2 * v0 - v1) / h, q[3] - (v0 + v1 - 2 * d) / (h * h)};
         r.linear[std::size_t(a)] = std::max(r.linear[std::size_t(a)], cubic_max_abs(el, xa, xb));
+        // Inside one cubic piece the Hermite interpolant is that cubic: its error is 0 (what the
+        // formula would give is round-off), so it is only evaluated where the interval holds a break.
+        if (whole) continue;
         r.hermite[std::size_t(a)] = std::max(r.hermite[std::size_t(a)], cubic_max_abs(eh, xa, xb));
       }
       ++r.points;
