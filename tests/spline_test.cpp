@@ -1067,3 +1067,49 @@ TEST_CASE("spline: overflowing steps or slopes are an error", "[spline]") {
   const CubicSpline s = CubicSpline::fit(vec({0.0, 1.0, 2.0}), q);
   CHECK(s.eval(1.0, 0) == 1e300);
 }
+
+TEST_CASE("spline: end conditions hold exactly at the last breakpoint", "[spline]") {
+  // Identity: a clamped spline's slope at u_n is the given slope, a natural spline's curvature
+  // at u_n is 0 and a periodic spline's slope and curvature at u_n are those at u_0 — exactly,
+  // not up to the rounding of evaluating the last cubic at its far end.
+  Eigen::VectorXd u(5);
+  u << 0.0, 0.7, 1.9, 2.3, 3.1;
+  Eigen::MatrixXd q(5, 2);
+  q << 0.2, -35, 0.65, -20, 1.2, 0.1, 1.75, 18, 0.2, -35;
+  c2path::SplineOptions clamped;
+  clamped.ends = c2path::EndCondition::kClamped;
+  clamped.start_slope = Eigen::VectorXd::Zero(2);
+  clamped.end_slope = Eigen::VectorXd::Zero(2);
+  const auto sc = c2path::CubicSpline::fit(u, q, clamped);
+  c2path::SplineOptions natural;
+  natural.ends = c2path::EndCondition::kNatural;
+  const auto sn = c2path::CubicSpline::fit(u, q, natural);
+  c2path::SplineOptions periodic;
+  periodic.ends = c2path::EndCondition::kPeriodic;
+  const auto sp = c2path::CubicSpline::fit(u, q, periodic);
+  Eigen::VectorXd out(2);
+  for (Index a = 0; a < 2; ++a) {
+    CHECK(sc.eval(3.1, a, 1) == 0.0);
+    CHECK(sc.eval(3.1, a, 0) == q(4, a));
+    CHECK(sn.eval(3.1, a, 2) == 0.0);
+    CHECK(sp.eval(3.1, a, 1) == sp.eval(0.0, a, 1));
+    CHECK(sp.eval(3.1, a, 2) == sp.eval(0.0, a, 2));
+    c2path::CubicSpline::Cursor cur(sc);
+    CHECK(cur.eval(3.1, a, 1) == 0.0);
+    // A copy made from the parts keeps them when they are passed on.
+    std::vector<double> c(std::size_t(sc.pieces() * 2 * 4)), e, ed;
+    for (Index p = 0; p < sc.pieces(); ++p)
+      for (Index b = 0; b < 2; ++b)
+        for (int k = 0; k < 4; ++k) c[std::size_t((p * 2 + b) * 4 + k)] = sc.coeff(p, b, k);
+    for (Index b = 0; b < 2; ++b) {
+      e.push_back(sc.end_value(b));
+      ed.push_back(sc.end_deriv(b, 1));
+      ed.push_back(sc.end_deriv(b, 2));
+    }
+    const c2path::CubicSpline copy(sc.breaks(), 2, c, e, ed);
+    CHECK(copy.eval(3.1, a, 1) == 0.0);
+  }
+  sc.eval(3.1, 1, out);
+  CHECK(out[0] == 0.0);
+  CHECK(out[1] == 0.0);
+}

@@ -95,7 +95,10 @@ class CubicSpline {
 
   /// A spline from its breakpoints (n+1) and coefficients (n * axes * 4, layout [piece][axis][k]).
   /// `end_values` (size axes) is the value at u_n; empty means: evaluate the last cubic there.
-  CubicSpline(std::vector<double> breaks, Index axes, std::vector<double> coeffs, std::vector<double> end_values = {});
+  /// `end_derivs` (size 2 * axes: slope, curvature of each axis at u_n, see end_deriv()); empty
+  /// means: evaluate the last cubic there.
+  CubicSpline(std::vector<double> breaks, Index axes, std::vector<double> coeffs, std::vector<double> end_values = {},
+              std::vector<double> end_derivs = {});
 
   [[nodiscard]] Index axes() const noexcept { return axes_; }
   /// Number of cubic pieces n (breakpoints n+1); 0 for an empty spline.
@@ -117,6 +120,13 @@ class CubicSpline {
   /// Value of axis `axis` at u_n exactly as interpolated (the last waypoint), not the rounded
   /// value of the last cubic there; eval() returns it at u == u_n.
   [[nodiscard]] double end_value(Index axis) const { return end_values_[std::size_t(axis)]; }
+  /// Value (deriv 0), slope (1) or curvature (2) of axis `axis` at u_n as the end condition fixes
+  /// it: the given slope for clamped, 0 curvature for natural, the wrapped start for periodic;
+  /// otherwise the last cubic evaluated there. eval() returns these at u == u_n, so a move that is
+  /// clamped to rest ends with velocity exactly 0 rather than a rounding residue.
+  [[nodiscard]] double end_deriv(Index axis, int deriv) const {
+    return deriv == 0 ? end_values_[std::size_t(axis)] : end_derivs_[std::size_t(axis) * 2 + std::size_t(deriv - 1)];
+  }
 
   /// Index of the piece that evaluates u: the i with u_i <= u < u_{i+1}, clamped to [0, n-1].
   [[nodiscard]] Index find_piece(double u) const;
@@ -193,6 +203,8 @@ class CubicSpline {
   Index axes_ = 0;
   detail::BulkVector coeffs_;
   std::vector<double> end_values_;
+  std::vector<double> end_derivs_;  // per axis: slope, curvature at u_n
+  void set_end_derivs(const SplineOptions* options);
 };
 
 /// Horner evaluation of the deriv-th derivative of c0 + c1 s + c2 s^2 + c3 s^3.
@@ -215,7 +227,7 @@ inline Index CubicSpline::find_piece(double u) const {
 }
 
 inline double CubicSpline::eval_piece(Index piece, double u, Index axis, int deriv) const {
-  if (deriv == 0 && u == breaks_.back() && piece + 1 == pieces()) return end_values_[std::size_t(axis)];
+  if (deriv <= 2 && u == breaks_.back() && piece + 1 == pieces()) return end_deriv(axis, deriv);
   return cubic_eval(coeffs(piece, axis), u - breaks_[std::size_t(piece)], deriv);
 }
 

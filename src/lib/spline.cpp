@@ -239,7 +239,8 @@ bool banded_fit(const double* u, const double* q, Index ldq, Index n, Index m_dy
 
 }  // namespace
 
-CubicSpline::CubicSpline(std::vector<double> breaks, Index axes, std::vector<double> coeffs, std::vector<double> end_values)
+CubicSpline::CubicSpline(std::vector<double> breaks, Index axes, std::vector<double> coeffs, std::vector<double> end_values,
+                         std::vector<double> end_derivs)
     : breaks_(std::move(breaks)), axes_(axes), coeffs_(coeffs.begin(), coeffs.end()), end_values_(std::move(end_values)) {
   if (breaks_.size() < 2 || axes_ < 1 || coeffs_.size() != (breaks_.size() - 1) * std::size_t(axes_) * 4 ||
       (!end_values_.empty() && end_values_.size() != std::size_t(axes_)))
@@ -250,6 +251,28 @@ CubicSpline::CubicSpline(std::vector<double> breaks, Index axes, std::vector<dou
     const Index last = pieces() - 1;
     const double h = breaks_.back() - breaks_[std::size_t(last)];
     for (Index a = 0; a < axes_; ++a) end_values_.push_back(cubic_eval(this->coeffs(last, a), h, 0));
+  }
+  if (!end_derivs.empty() && end_derivs.size() != std::size_t(axes_) * 2)
+    throw Error("CubicSpline: end derivatives need 2 values per axis");
+  set_end_derivs(nullptr);
+  if (!end_derivs.empty()) end_derivs_ = std::move(end_derivs);
+}
+
+void CubicSpline::set_end_derivs(const SplineOptions* options) {
+  const Index last = pieces() - 1;
+  const double h = breaks_.back() - breaks_[std::size_t(last)];
+  end_derivs_.resize(std::size_t(axes_) * 2);
+  for (Index a = 0; a < axes_; ++a) {
+    double d1 = cubic_eval(coeffs(last, a), h, 1);
+    double d2 = cubic_eval(coeffs(last, a), h, 2);
+    if (options && options->ends == EndCondition::kClamped) d1 = options->end_slope[a];
+    if (options && options->ends == EndCondition::kNatural && pieces() > 1) d2 = 0.0;
+    if (options && options->ends == EndCondition::kPeriodic) {
+      d1 = coeff(0, a, 1);
+      d2 = 2.0 * coeff(0, a, 2);
+    }
+    end_derivs_[std::size_t(a) * 2] = d1;
+    end_derivs_[std::size_t(a) * 2 + 1] = d2;
   }
 }
 
@@ -284,7 +307,9 @@ CubicSpline CubicSpline::fit(const Eigen::Ref<const Eigen::VectorXd>& u,
       default: ok = banded_fit<0>(ud, qd, ld, n, m, options, cp.data(), rp.data(), coeffs.data()); break;
     }
     if (!ok) throw_nonfinite(q);
-    return CubicSpline(Fitted{}, copy_breaks(ud, np), m, std::move(coeffs), std::move(end_values));
+    CubicSpline out(Fitted{}, copy_breaks(ud, np), m, std::move(coeffs), std::move(end_values));
+    out.set_end_derivs(&options);
+    return out;
   }
 
   if (!q.allFinite()) throw Error("spline: point values must be finite");
@@ -364,7 +389,9 @@ CubicSpline CubicSpline::fit(const Eigen::Ref<const Eigen::VectorXd>& u,
       c[3] = t / h;
     }
   }
-  return CubicSpline(Fitted{}, copy_breaks(u.data(), np), m, std::move(coeffs), std::move(end_values));
+  CubicSpline out(Fitted{}, copy_breaks(u.data(), np), m, std::move(coeffs), std::move(end_values));
+  out.set_end_derivs(&options);
+  return out;
 }
 
 double CubicSpline::eval(double u, Index axis, int deriv) const { return eval_piece(find_piece(u), u, axis, deriv); }
@@ -373,8 +400,8 @@ void CubicSpline::eval(double u, int deriv, Eigen::Ref<Eigen::VectorXd> out) con
   const Index p = find_piece(u);
   const double s = u - breaks_[std::size_t(p)];
   for (Index a = 0; a < axes_; ++a) out[a] = cubic_eval(coeffs(p, a), s, deriv);
-  if (deriv == 0 && u == breaks_.back())
-    for (Index a = 0; a < axes_; ++a) out[a] = end_values_[std::size_t(a)];
+  if (deriv <= 2 && u == breaks_.back())
+    for (Index a = 0; a < axes_; ++a) out[a] = end_deriv(a, deriv);
 }
 
 Range CubicSpline::piece_range(Index piece, Index axis, int deriv) const {
@@ -393,6 +420,10 @@ Range CubicSpline::piece_range(Index piece, Index axis, int deriv) const {
   if (deriv == 0) {
     // The value at the end of the piece is the next waypoint exactly.
     const double v1 = piece + 1 < pieces() ? coeff(piece + 1, axis, 0) : end_values_[std::size_t(axis)];
+    if (v1 < r.min) { r.min = v1; r.u_min = u0 + h; }
+    if (v1 > r.max) { r.max = v1; r.u_max = u0 + h; }
+  } else if (deriv <= 2 && piece + 1 == pieces()) {
+    const double v1 = end_deriv(axis, deriv);
     if (v1 < r.min) { r.min = v1; r.u_min = u0 + h; }
     if (v1 > r.max) { r.max = v1; r.u_max = u0 + h; }
   } else {

@@ -182,9 +182,13 @@ CubicSpline shifted(const CubicSpline& s, double first, double offset) {
   for (Index p = 0; p < s.pieces(); ++p)
     for (Index a = 0; a < s.axes(); ++a)
       for (int d = 0; d < 4; ++d) c[std::size_t(((p * s.axes()) + a) * 4 + d)] = s.coeff(p, a, d);
-  std::vector<double> e;
-  for (Index a = 0; a < s.axes(); ++a) e.push_back(s.end_value(a));
-  return CubicSpline(std::move(b), s.axes(), std::move(c), std::move(e));
+  std::vector<double> e, ed;
+  for (Index a = 0; a < s.axes(); ++a) {
+    e.push_back(s.end_value(a));
+    ed.push_back(s.end_deriv(a, 1));
+    ed.push_back(s.end_deriv(a, 2));
+  }
+  return CubicSpline(std::move(b), s.axes(), std::move(c), std::move(e), std::move(ed));
 }
 
 CubicSpline constant_piece(double t0, double t1, const Eigen::VectorXd& q) {

@@ -40,6 +40,9 @@ void CubicTrajectory::eval_all(double t, Eigen::Ref<Eigen::MatrixXd> out) const 
     const double* c = s.coeffs(p, a);
     for (int d = 0; d < 4; ++d) out(a, d) = cubic_eval(c, x, d);
   }
+  if (t == s.u_end())  // exact end values, slopes and curvatures
+    for (Index a = 0; a < s.axes(); ++a)
+      for (int d = 0; d < 3; ++d) out(a, d) = s.end_deriv(a, d);
 }
 
 std::vector<double> CubicTrajectory::breaks() const {
