@@ -361,6 +361,8 @@ struct Verifier::Impl {
       const double h = tr - tp;
       const double s = std::clamp((tk - tp) / h, 0.0, 1.0);
       for (std::size_t a = 0; a < m; ++a) {
+        // No acceleration limit and too few rows for a local estimate: no bound to check against.
+        if (!scene.axes[a].acc && (count < 3 || at(2).index < valid_since)) continue;
         const double lin = p.q[a] + s * (r.q[a] - p.q[a]);
         const double tol = h * h / 8.0 * acc_bound(a, 0) + trust(1, a) +
                            kTrust * (std::abs(wk.q[a]) + std::abs(tr) * std::abs(r.q[a] - p.q[a]) / h);
