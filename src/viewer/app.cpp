@@ -67,6 +67,7 @@ void App::sync_plan() {
   tv0_ = std::max(tv0_, tb);
   tv1_ = std::min(tv1_, te);
   if (!(tv1_ > tv0_)) { tv0_ = tb; tv1_ = te; }
+  if (!(tv1_ > tv0_)) tv1_ = tv0_ + 1.0;  // a move of zero duration: keep the time axis finite
   t_ = std::clamp(t_, tb, te);
 }
 

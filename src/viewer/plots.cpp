@@ -253,6 +253,7 @@ void App::plots_panel(const ImVec2& pos, const ImVec2& size) {
     return;
   }
   const auto& tr = *p->plan.trajectory;
+  if (!(tv1_ > tv0_)) tv1_ = tv0_ + std::max(1.0, tr.duration());  // never a zero-width time axis
   ImGui::AlignTextToFramePadding();
   ImGui::TextUnformatted("Profiles");
   for (int d = 0; d < 4; ++d) {
