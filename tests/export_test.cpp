@@ -109,11 +109,20 @@ std::string slurp(const std::string& path) {
 }
 
 int run(const std::string& cmd, std::string* out = nullptr) {
-  const std::string full = cmd + " > " + (fs::temp_directory_path() / "c2path_export_test.out").string() + " 2>&1";
+  const std::string full = cmd + " > " + (fs::temp_directory_path() / ("c2path_export_test_" + std::to_string(::getpid()) + ".out")).string() + " 2>&1";
   const int rc = std::system(full.c_str());
-  if (out) *out = slurp((fs::temp_directory_path() / "c2path_export_test.out").string());
+  if (out) *out = slurp((fs::temp_directory_path() / ("c2path_export_test_" + std::to_string(::getpid()) + ".out")).string());
   return WIFEXITED(rc) ? WEXITSTATUS(rc) : -1;
 }
+
+// Removes this process's scratch directory and captured output when the tests end.
+struct ScratchCleanup {
+  ~ScratchCleanup() {
+    std::error_code ec;
+    fs::remove_all(fs::temp_directory_path() / ("c2path_export_test_" + std::to_string(::getpid())), ec);
+    fs::remove(fs::temp_directory_path() / ("c2path_export_test_" + std::to_string(::getpid()) + ".out"), ec);
+  }
+} scratch_cleanup;
 
 fs::path scratch(const std::string& name) {
   const fs::path d = fs::temp_directory_path() / ("c2path_export_test_" + std::to_string(::getpid())) / name;

@@ -30,6 +30,15 @@ std::string slurp(const std::string& path) {
 
 void put(const fs::path& p, const std::string& s) { std::ofstream(p, std::ios::binary) << s; }
 
+// Removes this process's scratch directory and captured output when the tests end.
+struct ScratchCleanup {
+  ~ScratchCleanup() {
+    std::error_code ec;
+    fs::remove_all(fs::temp_directory_path() / ("c2path_verify_test_" + std::to_string(::getpid())), ec);
+    fs::remove(fs::temp_directory_path() / ("c2path_verify_test_" + std::to_string(::getpid()) + ".out"), ec);
+  }
+} scratch_cleanup;
+
 fs::path scratch(const std::string& name) {
   const fs::path d = fs::temp_directory_path() / ("c2path_verify_test_" + std::to_string(::getpid())) / name;
   fs::remove_all(d);
