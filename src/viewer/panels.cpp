@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cfloat>
 #include <cmath>
+#include <filesystem>
 #include <string>
 
 #include "app.hpp"
@@ -153,7 +154,8 @@ void App::report_tab() {
   if (!doc_.edit_error().empty())
     ImGui::TextColored(ImColor(col::kWarn), "Report of the last valid plan (the edited scene cannot be planned).");
   ImGui::PushTextWrapPos(0.0f);
-  ImGui::Text("scene %s%s: %s mode, %zu waypoints, %zu axes, t %s .. %s s (duration %s s)", s.file.c_str(),
+  const std::string file = std::filesystem::path(s.file).filename().string();  // the full path: hover the file name above
+  ImGui::Text("scene %s%s: %s mode, %zu waypoints, %zu axes, t %s .. %s s (duration %s s)", file.c_str(),
               s.name.empty() ? "" : (" \"" + s.name + "\"").c_str(), to_string(s.timing.mode), s.waypoints.size(), s.axes.size(),
               fmt::num(r.t_begin).c_str(), fmt::num(r.t_end).c_str(), fmt::num(r.duration).c_str());
   for (const auto& note : p->plan.notes) ImGui::TextColored(ImColor(col::kTextDim), "note: %s", note.c_str());
