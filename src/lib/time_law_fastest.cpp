@@ -46,6 +46,7 @@ struct AxisLim {
 // Path derivatives on the grid of one segment, point-major: d1[i * m + a].
 struct Grid {
   std::vector<double> u, d1, d2, d3;
+  std::vector<char> brk;  // grid point i is a break of the path (derivatives may jump there)
   [[nodiscard]] std::size_t points() const { return u.size(); }
 };
 
@@ -91,9 +92,13 @@ Grid make_grid(const Path& path, double ua, double ub, const std::vector<double>
   for (std::size_t k = 0; k + 1 < br.size(); ++k) {
     const double a = br[k], b = br[k + 1];
     const int n = factor * steps[k];
-    for (int j = 0; j < n; ++j) g.u.push_back(j == 0 ? a : a + (b - a) * double(j) / n);
+    for (int j = 0; j < n; ++j) {
+      g.u.push_back(j == 0 ? a : a + (b - a) * double(j) / n);
+      g.brk.push_back(j == 0 ? 1 : 0);
+    }
   }
   g.u.push_back(ub);
+  g.brk.push_back(1);
   const std::size_t n = g.u.size();
   g.d1.resize(n * std::size_t(m));
   g.d2.resize(n * std::size_t(m));
@@ -413,20 +418,52 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       return double(bl.area[i]) + y * (bl.u[i] + y * (bl.v[i] * 0.5 + y * bl.w[i] * (1.0 / 6.0)));
     };
     const double itau = 1.0 / tau;
+    double up[4] = {g.u[0], 0.0, 0.0, 0.0};  // u and its derivatives at the previous sample
     for (std::size_t k = 0; k < ts.size(); ++k) {
       const double s = ts[k];
       double hi[3], lo[3];
       const double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
+      const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
+      const double uu = s - tau >= T0 ? L : std::min(L, (ahi - alo) * itau);
+      const double ur = uu + g.u[0];
+      const std::size_t ig_prev = ig;
+      while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
+      const double prev[4] = {up[0], up[1], up[2], up[3]};
+      up[0] = ur;
+      up[1] = u1;
+      up[2] = u2;
+      up[3] = u3;
       if (partial) {
         const std::size_t i0 = (s - tau > 0.0) ? il : 0, i1 = std::min(ih + 1, n - 1);
         if (changed_before[i1] == changed_before[i0] && !viol_prev[tags[k]]) continue;
       }
-      const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
-      const double uu = s - tau >= T0 ? L : std::min(L, (ahi - alo) * itau);
-      const double ur = uu + g.u[0];
-      while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
       const double dl = ur - g.u[ig];
+      // At a break of the smoothed law d3u/dt3 jumps: the sample is its right value, and the left
+      // limit (the base acceleration of the interval ending there) is checked too.
+      auto w_left = [&](double at, std::size_t i, double w_right) {
+        if (!(at > 0.0) || at > T0) return w_right;
+        if (at == T0) return bl.w[n - 2];
+        return (at == bl.t[i] && i > 0) ? bl.w[i - 1] : w_right;
+      };
+      const double u3l = (w_left(s, ih, hi[2]) - w_left(s - tau, il, lo[2])) * itau;
       double rv = 0.0, ra = 0.0, rj = 0.0;
+      // Path breaks passed since the previous sample: both sides of each, with the time-law
+      // derivatives interpolated linearly in u between the two samples.
+      for (std::size_t c = ig_prev + 1; c <= ig && k > 0; ++c) {
+        if (!g.brk[c] || !(ur > prev[0])) continue;
+        const double f = std::clamp((g.u[c] - prev[0]) / (ur - prev[0]), 0.0, 1.0);
+        const double c1 = prev[1] + f * (u1 - prev[1]), c2 = prev[2] + f * (u2 - prev[2]), c3 = prev[3] + f * (u3 - prev[3]);
+        for (const std::size_t from : {c - 1, c}) {
+          const double dd = g.u[c] - g.u[from];
+          for (std::size_t a = 0; a < m; ++a) {
+            const double q3 = g.d3[from * m + a], q2 = g.d2[from * m + a] + q3 * dd;
+            const double q1 = g.d1[from * m + a] + dd * (g.d2[from * m + a] + 0.5 * q3 * dd);
+            rv = std::max(rv, std::abs(q1 * c1) * ilim[a * 3]);
+            ra = std::max(ra, std::abs(q2 * c1 * c1 + q1 * c2) * ilim[a * 3 + 1]);
+            rj = std::max(rj, std::abs(q3 * c1 * c1 * c1 + 3.0 * q2 * c1 * c2 + q1 * c3) * ilim[a * 3 + 2]);
+          }
+        }
+      }
       std::uint64_t* bits = &bind[std::size_t(tags[k]) * words];
       std::fill(bits, bits + words, 0);
       const double* p1 = &g.d1[ig * m];
@@ -436,7 +473,8 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
         const double q3 = p3[a], q2 = p2[a] + q3 * dl, q1 = p1[a] + dl * (p2[a] + 0.5 * q3 * dl);
         const double v = std::abs(q1 * u1);
         const double acc = std::abs(q2 * u1 * u1 + q1 * u2);
-        const double j = std::abs(q3 * u1 * u1 * u1 + 3.0 * q2 * u1 * u2 + q1 * u3);
+        const double jc = q3 * u1 * u1 * u1 + 3.0 * q2 * u1 * u2;
+        const double j = std::max(std::abs(jc + q1 * u3), std::abs(jc + q1 * u3l));
         const double r[3] = {v * ilim[a * 3], acc * ilim[a * 3 + 1], j * ilim[a * 3 + 2]};
         for (std::size_t q = 0; q < 3; ++q)
           if (r[q] >= near_q[q]) bits[(a * 3 + q) / 64] |= std::uint64_t(1) << ((a * 3 + q) % 64);

@@ -160,7 +160,20 @@ CubicSpline fit_segment(const Eigen::VectorXd& u, const Eigen::MatrixXd& q, cons
   }
   std::vector<double> endv(static_cast<std::size_t>(m));
   for (Index a = 0; a < m; ++a) endv[std::size_t(a)] = q(n - 1, a);
-  return CubicSpline(uu, m, std::move(coeffs), std::move(endv));
+  // Slope and curvature at the last breakpoint as the end condition fixes them (exact zeros at a
+  // rest end), the last cubic otherwise.
+  std::vector<double> endd(static_cast<std::size_t>(2 * m));
+  const double hl = uu.back() - uu[uu.size() - 2];
+  for (Index a = 0; a < m; ++a) {
+    const double* c = &coeffs[std::size_t((((pieces - 1) * m) + a) * 4)];
+    double slope = cubic_eval(c, hl, 1), curv = cubic_eval(c, hl, 2);
+    if (e1.kind == EndKind::kRest) slope = curv = 0.0;
+    if (e1.kind == EndKind::kSlope) slope = e1.slope[a];
+    if (e1.kind == EndKind::kNatural) curv = 0.0;
+    endd[std::size_t(a) * 2] = slope;
+    endd[std::size_t(a) * 2 + 1] = curv;
+  }
+  return CubicSpline(uu, m, std::move(coeffs), std::move(endv), std::move(endd));
 }
 
 // Waypoints where the path is split: the first, every interior one with stop or hold, the last.
