@@ -99,7 +99,7 @@ struct FastestOptions {
   int min_steps = 3;
   int max_steps = 24;
   double bend_step = 0.3;
-  int min_segment_steps = 400;
+  int min_segment_steps = 1000;
   /// Multiplies the number of steps per piece (1 = the documented rule; 10 for convergence tests).
   double grid_factor = 1.0;
   /// Repairs (local slow-downs where the smoothed plan exceeds a limit) before the final uniform
