@@ -32,7 +32,7 @@ namespace c2path {
 struct Plan {
   std::shared_ptr<const Path> path;              ///< q(u)
   std::shared_ptr<const Trajectory> trajectory;  ///< q(t)
-  Eigen::VectorXd knots;                         ///< path parameter of each waypoint (keyframes: its time) [s or weighted units]
+  Eigen::VectorXd knots;                         ///< path parameter of each waypoint (keyframes: its time minus the holds before it) [s or weighted units]
   Eigen::VectorXd waypoint_times;                ///< time at which the move reaches each waypoint [s]
   std::vector<AxisLimits> limits;                ///< the scene's limits per axis (what check_limits checks)
   std::vector<std::string> notes;                ///< facts the report should state (fallbacks, ignored keys)
