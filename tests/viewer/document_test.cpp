@@ -1,15 +1,20 @@
 // The viewer's document without a display: re-planning on edits, invalid edits keeping the last
-// valid plan, undo/redo, add/delete/reorder, saving.
+// valid plan, undo/redo, add/delete/reorder, saving; and the drawing samples (min/max tree,
+// values taken from the trajectory, violations marked).
 
 #include <catch2/catch.hpp>
 
+#include <algorithm>
 #include <cstdio>
 #include <filesystem>
+#include <random>
 #include <string>
 
 #include "c2path/scene_yaml.hpp"
 #include "document.hpp"
+#include "samples.hpp"
 
+using c2path::Index;
 using c2path::viewer::Document;
 
 namespace {
@@ -166,4 +171,57 @@ TEST_CASE("viewer document: a file that does not load reports its error and keep
   CHECK_FALSE(fresh.load(bad.string()));
   CHECK_FALSE(fresh.has_scene());
   CHECK(fresh.shown() == nullptr);
+}
+
+// ---- drawing samples ------------------------------------------------------------------------
+
+TEST_CASE("viewer samples: the min/max tree agrees with a scan on every range", "[viewer]") {
+  std::mt19937 rng(7);
+  std::uniform_real_distribution<float> u(-5.0f, 5.0f);
+  for (std::size_t n : {1u, 2u, 15u, 16u, 17u, 100u, 1000u}) {
+    std::vector<float> v(n);
+    for (auto& x : v) x = u(rng);
+    const c2path::viewer::MinMaxTree tree(v.data(), n);
+    std::uniform_int_distribution<std::size_t> pick(0, n - 1);
+    for (int trial = 0; trial < 300; ++trial) {
+      std::size_t a = pick(rng), b = pick(rng);
+      if (a > b) std::swap(a, b);
+      ++b;
+      float lo = 0, hi = 0;
+      tree.query(a, b, lo, hi);
+      const auto [mn, mx] = std::minmax_element(v.begin() + long(a), v.begin() + long(b));
+      INFO("n " << n << " range " << a << " .. " << b);
+      CHECK(lo == *mn);
+      CHECK(hi == *mx);
+    }
+  }
+}
+
+TEST_CASE("viewer samples: values are the trajectory's, violations are marked beyond 100 %", "[viewer]") {
+  Document d;
+  REQUIRE(d.load(std::string(C2PATH_SCENES) + "/whip_pan_violation.yaml"));
+  const auto& planned = *d.shown();
+  REQUIRE_FALSE(planned.report.violations.empty());
+  c2path::viewer::Samples s;
+  s.build(planned);
+  REQUIRE(s.n >= 4096);
+  CHECK(s.t.front() == planned.plan.trajectory->t_begin());
+  CHECK(s.t.back() == planned.plan.trajectory->t_end());
+  for (std::size_t i = 1; i < s.n; ++i) REQUIRE(s.t[i] >= s.t[i - 1]);
+  Eigen::MatrixXd out(planned.plan.trajectory->axes(), 4);
+  for (std::size_t i = 0; i < s.n; i += 97) {
+    planned.plan.trajectory->eval_all(s.t[i], out);
+    for (std::size_t a = 0; a < s.axes; ++a)
+      for (int k = 0; k < 4; ++k)
+        REQUIRE(double(s.series(k, a)[i]) == Approx(out(Index(a), k)).margin(1e-4 * (1.0 + std::abs(out(Index(a), k)))));
+  }
+  for (const auto& v : planned.report.violations)
+    for (std::size_t i = 0; i < s.n; ++i)
+      if (s.t[i] >= v.t_start && s.t[i] <= v.t_end) REQUIRE(s.pct[i] > 100.0f);
+  // The whole-move range of each series covers the report's exact peaks (up to float rounding).
+  for (std::size_t a = 0; a < s.axes; ++a) {
+    const auto& pk = planned.report.peaks[a];
+    CHECK(double(s.lo[0][a]) <= pk.pos_min + 1e-3 * (1 + std::abs(pk.pos_min)) + 1e-2 * (pk.pos_max - pk.pos_min));
+    CHECK(double(s.hi[0][a]) >= pk.pos_max - 1e-2 * (pk.pos_max - pk.pos_min) - 1e-3);
+  }
 }
