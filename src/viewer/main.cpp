@@ -268,9 +268,9 @@ int main(int argc, char** argv) {
     const double c0 = cpu_now();
     if (a.edit_each_frame && doc.has_scene() && !doc.scene().waypoints.empty()) {
       // As a drag does: one gesture, a new value for one waypoint every frame.
+      doc.begin_gesture();
       auto& w = doc.edit().waypoints[doc.scene().waypoints.size() / 2];
       if (!w.q.empty()) w.q[0] += (frame % 2 ? 1e-4 : -1e-4);
-      doc.begin_gesture();
       doc.changed();
     }
     const double dt = std::chrono::duration<double>(t0 - last).count();
