@@ -5,6 +5,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <limits>
 #include <string>
 
@@ -267,9 +268,12 @@ std::shared_ptr<const TimeLaw> plan_duration(const Path& path, double duration_s
   double hold = 0.0;
   for (double h : holds_s) hold += h;
   const double moving = duration_s - hold;
-  if (!(moving > 1e-9 * duration_s))
-    throw Error("timing: the holds take " + std::to_string(hold) + " s of the " + std::to_string(duration_s) +
-                " s duration, leaving no time to move; make the duration longer than the holds");
+  if (!(moving > 1e-9 * duration_s)) {
+    char buf[160];
+    std::snprintf(buf, sizeof buf, "timing: the holds take %.15g s of the %.15g s duration, leaving no time to move", hold,
+                  duration_s);
+    throw Error(std::string(buf) + "; make the duration longer than the holds");
+  }
   const double total_u = st.back() - st.front();
   std::vector<std::shared_ptr<detail::TimeLawPart>> parts;
   double t = 0.0;
