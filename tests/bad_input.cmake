@@ -5,7 +5,8 @@
 # LINE:COL as expected, MESSAGE containing TEXT), and write nothing: a new OUT is not created, an
 # earlier OUT keeps its bytes, and no temporary file is left beside it. The same file on standard
 # input (`c2path check -`) must give the same error attributed to <stdin>.
-# With -DLARGE=ON, FILE is first written here: one byte more than the 64 MiB scene cap.
+# With -DLARGE=bytes, FILE is first written here: one byte more than the 64 MiB scene cap; with
+# -DLARGE=values, a 16 MB file of more than kMaxYamlValues (8,000,000) YAML values.
 cmake_minimum_required(VERSION 3.20)
 foreach(v CLI FILE LOC TEXT WORK)
   if(NOT DEFINED ${v})
@@ -15,7 +16,7 @@ endforeach()
 
 file(REMOVE_RECURSE ${WORK})
 file(MAKE_DIRECTORY ${WORK}/out)
-if(LARGE)
+if(LARGE STREQUAL "bytes")
   string(REPEAT "# padding to make the file larger than the scene size cap.........\n" 64 block)  # 4 KiB
   string(REPEAT "${block}" 256 block)  # 1 MiB
   file(WRITE ${FILE} "")
@@ -23,6 +24,17 @@ if(LARGE)
     file(APPEND ${FILE} "${block}")
   endforeach()
   file(APPEND ${FILE} "x")
+elseif(LARGE STREQUAL "values")
+  # 8,000,000 numbers in one flow list after 'format' and its value: 2 values beyond the cap.
+  string(REPEAT "1," 1000 block)  # 1,000 values
+  string(REPEAT "${block}" 1000 block)  # 1,000,000 values
+  file(WRITE ${FILE} "format: 1\nname: [")
+  foreach(i RANGE 1 8)
+    file(APPEND ${FILE} "${block}")
+  endforeach()
+  file(APPEND ${FILE} "1]\n")
+elseif(LARGE)
+  message(FATAL_ERROR "LARGE must be bytes or values")
 endif()
 get_filename_component(dir ${FILE} DIRECTORY)
 get_filename_component(name ${FILE} NAME)

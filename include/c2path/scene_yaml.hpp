@@ -12,6 +12,12 @@ namespace c2path {
 /// Largest scene file accepted [bytes].
 inline constexpr std::size_t kMaxSceneBytes = 64u << 20;
 
+/// Largest number of YAML values (scalars, lists, mappings, aliases) a scene file may hold. yaml-cpp
+/// needs about 500 bytes per value, so this bounds the loader's memory to about 4 GB (1,000,000
+/// waypoints of 2 axes and a time are 7,000,000 values); the count is taken by a pass over the
+/// parser's events before any value is stored.
+inline constexpr std::size_t kMaxYamlValues = 8'000'000;
+
 /// Parses a scene from YAML text. `file` names the source in messages. Throws c2path::Error
 /// (`FILE:LINE:COL: error: ...`) for syntax errors, duplicate or unknown keys (naming the nearest
 /// valid key), wrong types, non-finite numbers and every rule of validate_scene().

@@ -85,18 +85,31 @@ std::string yaml_hint(const std::string& msg) {
 // loops forever (allocating without bound) in YAML::LoadAll on some malformed inputs, e.g. a ','
 // outside a flow collection: its parser then starts document after document without consuming
 // anything. Here such a repeated start is reported as a syntax error at that place instead.
+// The same pass counts the values, so that a file of millions of tiny values (yaml-cpp keeps about
+// 500 bytes per value) is refused before yaml-cpp stores any of them (kMaxYamlValues).
 class DocumentStarts final : public YAML::EventHandler {
  public:
+  explicit DocumentStarts(const std::string& file) : file_(file) {}
   std::vector<YAML::Mark> starts;
   void OnDocumentStart(const YAML::Mark& mark) override { starts.push_back(mark); }
   void OnDocumentEnd() override {}
-  void OnNull(const YAML::Mark&, YAML::anchor_t) override {}
-  void OnAlias(const YAML::Mark&, YAML::anchor_t) override {}
-  void OnScalar(const YAML::Mark&, const std::string&, YAML::anchor_t, const std::string&) override {}
-  void OnSequenceStart(const YAML::Mark&, const std::string&, YAML::anchor_t, YAML::EmitterStyle::value) override {}
+  void OnNull(const YAML::Mark& m, YAML::anchor_t) override { count(m); }
+  void OnAlias(const YAML::Mark& m, YAML::anchor_t) override { count(m); }
+  void OnScalar(const YAML::Mark& m, const std::string&, YAML::anchor_t, const std::string&) override { count(m); }
+  void OnSequenceStart(const YAML::Mark& m, const std::string&, YAML::anchor_t, YAML::EmitterStyle::value) override { count(m); }
   void OnSequenceEnd() override {}
-  void OnMapStart(const YAML::Mark&, const std::string&, YAML::anchor_t, YAML::EmitterStyle::value) override {}
+  void OnMapStart(const YAML::Mark& m, const std::string&, YAML::anchor_t, YAML::EmitterStyle::value) override { count(m); }
   void OnMapEnd() override {}
+
+ private:
+  void count(const YAML::Mark& m) {
+    if (++values_ > kMaxYamlValues)
+      throw Error(file_, SourceLoc{m.line >= 0 ? m.line + 1 : 1, m.column >= 0 ? m.column + 1 : 1},
+                  "the file holds more than " + std::to_string(kMaxYamlValues) +
+                      " YAML values; this is more than c2path loads (split the move)");
+  }
+  const std::string& file_;
+  std::size_t values_ = 0;
 };
 
 class Loader {
@@ -309,7 +322,7 @@ class Loader {
       const std::string yaml_text(text_in);
       std::istringstream in(yaml_text);
       YAML::Parser parser(in);
-      DocumentStarts ds;
+      DocumentStarts ds(file_);
       while (ds.starts.size() < 3 && parser.HandleNextDocument(ds)) {
         const std::size_t k = ds.starts.size();
         if (k >= 2 && ds.starts[k - 1].pos == ds.starts[k - 2].pos) {
