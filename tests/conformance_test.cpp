@@ -154,9 +154,7 @@ std::vector<std::string> split(const std::string& s, char sep) {
 double parse_number(const std::string& s) {
   double x = 0;
   const auto [p, ec] = std::from_chars(s.data(), s.data() + s.size(), x);
-  INFO("CSV field '" << s << "'");
-  REQUIRE(ec == std::errc());
-  REQUIRE(p == s.data() + s.size());
+  if (ec != std::errc() || p != s.data() + s.size()) FAIL("CSV field '" << s << "' is not a number");
   return x;
 }
 
@@ -319,6 +317,43 @@ TEST_CASE("conformance: export --allow-violations agrees with SciPy 1.10 at the 
     // Rows at t0 + k / rate before the end, then one at exactly the end.
     CHECK(lines.size() - 1 == ex.at("rows").get<std::size_t>());
     const std::size_t m = ref.at("axes").size();
+    // A move within its limits (per the SciPy reference) exports setpoints within them: every row,
+    // to the check's 1e-9 tolerance (of the span for positions).
+    if (ref.at("ok").get<bool>()) {
+      for (std::size_t a = 0; a < m; ++a) {
+        const json& lim = ref.at("axes")[a].at("limit");
+        auto bound = [&](const char* k, double fallback) { return lim.at(k).is_null() ? fallback : lim.at(k).get<double>(); };
+        const double inf = HUGE_VAL;
+        const double lo = bound("min", -inf), hi = bound("max", inf), vmax = bound("vel", inf), amax = bound("acc", inf);
+        const double span = std::isfinite(lo) && std::isfinite(hi) ? hi - lo : 1.0;
+        std::size_t worst_row = 0;
+        double worst = 0;  // largest excess over a bound, relative as the check's tolerance
+        for (std::size_t row = 1; row < lines.size(); ++row) {
+          const auto f = split(lines[row], ',');
+          if (f.size() != 1 + 3 * m) FAIL("CSV row " << row << " has " << f.size() << " fields: " << lines[row]);
+          const double x = parse_number(f[1 + 3 * a]), v = parse_number(f[2 + 3 * a]), acc = parse_number(f[3 + 3 * a]);
+          const double e = std::max({(lo - x) / span, (x - hi) / span, std::abs(v) / vmax - 1, std::abs(acc) / amax - 1});
+          if (e > worst) {
+            worst = e;
+            worst_row = row;
+          }
+        }
+        INFO("axis " << a << ": worst row " << worst_row << " exceeds a bound by " << show(worst) << " (relative): "
+                     << (worst_row ? lines[worst_row] : std::string("-")));
+        CHECK(worst <= 1e-9);
+      }
+    }
+    // Without --allow-violations: written when within limits; refused (exit 1, nothing written)
+    // otherwise (design §5).
+    {
+      const fs::path plain = w.dir / "plain.csv";
+      fs::remove(plain);
+      const Run p = w.cli("export " + sh_quote(scene) + " --rate " + std::to_string(ex.at("rate").get<int>()) + " -o " + sh_quote(plain));
+      INFO("export without --allow-violations, stderr: " << p.err);
+      CHECK(p.rc == ref.at("exit_code").get<int>());
+      CHECK(fs::exists(plain) == ref.at("ok").get<bool>());
+      if (ref.at("ok").get<bool>()) CHECK(read_text(plain) == read_text(csv));
+    }
     // Reference values: SciPy 1.10 CubicSpline(t) and its derivatives 1, 2 at the row times.
     for (const auto& s : ex.at("samples")) {
       const std::size_t k = s.at("k").get<std::size_t>();
