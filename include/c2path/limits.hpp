@@ -54,6 +54,11 @@ struct CheckOptions {
   double rel_tol = 1e-9;
   /// Samples per trajectory piece for trajectories that are not piecewise cubic (minimum).
   int samples_per_piece = 64;
+  /// Sampled checks: the step is chosen so that what can hide between samples is below this
+  /// fraction of each position, velocity and acceleration limit ...
+  double sample_tol = 1e-6;
+  /// ... and of each jerk limit (a first-order bound, hence looser).
+  double sample_tol_jerk = 1e-3;
   void validate() const;
 };
 

@@ -44,6 +44,10 @@ class TimeLaw {
   [[nodiscard]] double time_of(double u) const;
   /// Part boundaries [s]: t_begin, then the end of every moving and hold part.
   [[nodiscard]] std::vector<double> part_times() const;
+  /// The same law with every moving part slowed down uniformly by `factor` >= 1 (its duration
+  /// times factor, du/dt divided by factor, d2u/dt2 by factor^2, d3u/dt3 by factor^3); holds keep
+  /// their length. Each moving part starts and ends at rest, so this is exact.
+  [[nodiscard]] std::shared_ptr<const TimeLaw> stretched(double factor) const;
 
  private:
   [[nodiscard]] std::size_t part_of(double t) const;

@@ -28,6 +28,8 @@ const char* to_string(Quantity q) {
 void CheckOptions::validate() const {
   if (!(rel_tol >= 0.0 && rel_tol < 1e-3)) throw Error("check: rel_tol must be in [0, 1e-3)");
   if (samples_per_piece < 2 || samples_per_piece > 1'000'000) throw Error("check: samples_per_piece must be in [2, 1e6]");
+  if (!(sample_tol > 0.0 && sample_tol <= 0.1) || !(sample_tol_jerk > 0.0 && sample_tol_jerk <= 0.1))
+    throw Error("check: sample tolerances must be in (0, 0.1]");
 }
 
 namespace {
@@ -214,11 +216,9 @@ void check_exact(const std::vector<CubicSpline>& pieces, const std::vector<AxisL
 // (no next derivative in the Trajectory interface) with |jerk'| <= S: the excess is at most S h / 2.
 // M is the peak |acc| for pos and the peak |jerk| for vel (both from this check); for acc and jerk
 // it is the snap, estimated from divided differences of the sampled jerk (times 2 for safety). The
-// step is chosen per break interval so that the bound is below kSampleTol of each limit (jerk:
-// kSampleTolJerk) (at most
+// step is chosen per break interval so that the bound is below CheckOptions::sample_tol of each
+// limit (jerk: sample_tol_jerk) (at most
 // kMaxSamples samples in all) and the bound actually reached is reported in Report::sample_bound.
-constexpr double kSampleTol = 1e-6;
-constexpr double kSampleTolJerk = 1e-3;  // jerk: first-order bound, so a looser target
 constexpr std::size_t kMaxSamples = 1'000'000;
 
 struct Samples {
@@ -325,7 +325,7 @@ void check_sampled(const Trajectory& tr, const std::vector<AxisLimits>& limits, 
   };
   std::vector<double> acc_pk, jerk_pk, snap;
   bounds_per_interval(S, per, acc_pk, jerk_pk, snap);
-  // Pass 2: the step each break interval needs for a bound below kSampleTol of every limit.
+  // Pass 2: the step each break interval needs for a bound below sample_tol of every limit.
   std::size_t total = 0;
   std::vector<std::size_t> need(nb);
   for (std::size_t b = 0; b < nb; ++b) {
@@ -336,12 +336,12 @@ void check_sampled(const Trajectory& tr, const std::vector<AxisLimits>& limits, 
       double span = 1.0;
       if (l.min && l.max) span = *l.max - *l.min;
       auto quad = [&](double M, double lim) {  // M h^2 / 8 <= tol * lim
-        if (M > 0 && lim > 0) n = std::max(n, len / std::sqrt(8.0 * 0.5 * kSampleTol * lim / M));
+        if (M > 0 && lim > 0) n = std::max(n, len / std::sqrt(8.0 * 0.5 * o.sample_tol * lim / M));
       };
       if (l.min || l.max) quad(acc_pk[b * m + a], span);
       if (l.vel) quad(jerk_pk[b * m + a], *l.vel);
       if (l.acc) quad(snap[b * m + a], *l.acc);
-      if (l.jerk && snap[b * m + a] > 0) n = std::max(n, len * snap[b * m + a] / (2.0 * 0.5 * kSampleTolJerk * *l.jerk));
+      if (l.jerk && snap[b * m + a] > 0) n = std::max(n, len * snap[b * m + a] / (2.0 * 0.5 * o.sample_tol_jerk * *l.jerk));
     }
     need[b] = std::size_t(std::min(std::ceil(n), 1e7));
     total += need[b];

@@ -191,6 +191,45 @@ std::vector<double> TimeLaw::part_times() const {
   return b;
 }
 
+namespace {
+// A part of another law, shifted to start at t0 and (when moving) slowed down by `factor`.
+struct StretchedPart final : detail::TimeLawPart {
+  std::shared_ptr<const detail::TimeLawPart> orig;
+  double factor = 1.0;
+  [[nodiscard]] double to_orig(double t) const { return std::min(orig->t1, orig->t0 + (t - t0) / factor); }
+  void eval_local(double t, double* out) const override {
+    orig->eval_local(to_orig(t), out);
+    out[1] /= factor;
+    out[2] /= factor * factor;
+    out[3] /= factor * factor * factor;
+  }
+  void inner_breaks(std::vector<double>& out) const override {
+    std::vector<double> ob;
+    orig->inner_breaks(ob);
+    for (double b : ob) out.push_back(t0 + (b - orig->t0) * factor);
+  }
+  [[nodiscard]] bool moving() const override { return orig->moving(); }
+};
+}  // namespace
+
+std::shared_ptr<const TimeLaw> TimeLaw::stretched(double factor) const {
+  if (!(factor >= 1.0) || !std::isfinite(factor)) throw Error("time law: a stretch factor must be 1 or more");
+  std::vector<std::shared_ptr<const detail::TimeLawPart>> parts;
+  double t = t_begin();
+  for (const auto& p : parts_) {
+    auto sp = std::make_shared<StretchedPart>();
+    sp->orig = p;
+    sp->factor = p->moving() ? factor : 1.0;
+    sp->t0 = t;
+    sp->t1 = t + (p->t1 - p->t0) * sp->factor;
+    sp->ua = p->ua;
+    sp->ub = p->ub;
+    t = sp->t1;
+    parts.push_back(std::move(sp));
+  }
+  return std::make_shared<TimeLaw>(std::move(parts));
+}
+
 double TimeLaw::time_of(double u) const {
   for (const auto& pp : parts_) {
     const auto& p = *pp;
