@@ -37,27 +37,8 @@ std::shared_ptr<CubicTrajectory> cubic(double T, const std::vector<std::array<do
   return std::make_shared<CubicTrajectory>(std::vector<CubicSpline>{CubicSpline({0.0, T}, Index(c.size()), coeffs)});
 }
 
-// q(t) = A sin(w t) on [0, T]: smooth, not piecewise cubic.
-class SineTrajectory final : public Trajectory {
- public:
-  SineTrajectory(double A, double w, double T) : A_(A), w_(w), T_(T) {}
-  [[nodiscard]] Index axes() const override { return 1; }
-  [[nodiscard]] double t_begin() const override { return 0.0; }
-  [[nodiscard]] double t_end() const override { return T_; }
-  void eval(double t, int d, Eigen::Ref<Eigen::VectorXd> out) const override {
-    const double p = std::pow(w_, d);
-    switch (d % 4) {
-      case 0: out[0] = A_ * p * std::sin(w_ * t); break;
-      case 1: out[0] = A_ * p * std::cos(w_ * t); break;
-      case 2: out[0] = -A_ * p * std::sin(w_ * t); break;
-      default: out[0] = -A_ * p * std::cos(w_ * t); break;
-    }
-  }
-  [[nodiscard]] std::vector<double> breaks() const override { return {0.0, T_}; }
-
- private:
-  double A_, w_, T_;
-};
+// SineTrajectory (tests/test_util.hpp): smooth, not piecewise cubic.
+using c2path::test::SineTrajectory;
 
 // A trajectory seen only through eval (cubic_pieces() is nullptr), so that reconstruction_error
 // compares at points instead of using its exact piecewise-cubic analysis.

@@ -9,8 +9,31 @@
 #include <string>
 
 #include "c2path/spline.hpp"
+#include "c2path/trajectory.hpp"
 
 namespace c2path::test {
+
+/// q(t) = A sin(w t) on [0, T], one axis: every derivative in closed form, not piecewise cubic.
+class SineTrajectory final : public Trajectory {
+ public:
+  SineTrajectory(double A, double w, double T) : A_(A), w_(w), T_(T) {}
+  [[nodiscard]] Index axes() const override { return 1; }
+  [[nodiscard]] double t_begin() const override { return 0.0; }
+  [[nodiscard]] double t_end() const override { return T_; }
+  void eval(double t, int d, Eigen::Ref<Eigen::VectorXd> out) const override {
+    const double p = std::pow(w_, d);
+    switch (d % 4) {
+      case 0: out[0] = A_ * p * std::sin(w_ * t); break;
+      case 1: out[0] = A_ * p * std::cos(w_ * t); break;
+      case 2: out[0] = -A_ * p * std::sin(w_ * t); break;
+      default: out[0] = -A_ * p * std::cos(w_ * t); break;
+    }
+  }
+  [[nodiscard]] std::vector<double> breaks() const override { return {0.0, T_}; }
+
+ private:
+  double A_, w_, T_;
+};
 
 /// |a - b| <= abs_tol + rel_tol * max(|a|, |b|)
 inline bool near(double a, double b, double rel_tol, double abs_tol = 0.0) {

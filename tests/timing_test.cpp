@@ -457,29 +457,8 @@ waypoints:
 
 // ---- the sampled check ------------------------------------------------------------------------
 
-namespace {
-// q(t) = A sin(w t) on [0, T], one axis: every derivative in closed form (identity).
-class SineTrajectory final : public Trajectory {
- public:
-  SineTrajectory(double A, double w, double T) : A_(A), w_(w), T_(T) {}
-  [[nodiscard]] Index axes() const override { return 1; }
-  [[nodiscard]] double t_begin() const override { return 0.0; }
-  [[nodiscard]] double t_end() const override { return T_; }
-  void eval(double t, int d, Eigen::Ref<Eigen::VectorXd> out) const override {
-    const double p = std::pow(w_, d);
-    switch (d % 4) {
-      case 0: out[0] = A_ * p * std::sin(w_ * t); break;
-      case 1: out[0] = A_ * p * std::cos(w_ * t); break;
-      case 2: out[0] = -A_ * p * std::sin(w_ * t); break;
-      default: out[0] = -A_ * p * std::cos(w_ * t); break;
-    }
-  }
-  [[nodiscard]] std::vector<double> breaks() const override { return {0.0, T_}; }
-
- private:
-  double A_, w_, T_;
-};
-}  // namespace
+// SineTrajectory (tests/test_util.hpp): every derivative in closed form (identity).
+using c2path::test::SineTrajectory;
 
 TEST_CASE("timing: the sampled check finds peaks and crossings within its stated bound", "[timing]") {
   // q = 2 sin(3 t) on [0, 2]: |v| peaks at 6 (t = 0), |a| at 18 (t = pi/6, pi/2), |j| at 54 (t = 0)

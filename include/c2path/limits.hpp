@@ -21,6 +21,10 @@ struct AxisLimits {
 /// The scene's limits, axis by axis (not scaled by timing.scale: the check uses the real limits).
 [[nodiscard]] std::vector<AxisLimits> scene_limits(const Scene& scene);
 
+/// The limits a scene leaves out, as "AXIS travel|vel|acc|jerk", axis by axis (what check
+/// cannot check).
+[[nodiscard]] std::vector<std::string> unchecked_limits(const Scene& scene);
+
 /// A checked quantity.
 enum class Quantity { kPos, kVel, kAcc, kJerk };
 /// "pos", "vel", "acc", "jerk".

@@ -117,7 +117,6 @@ void print_table(const Loaded& l) {
   for (const auto& n : l.plan.notes) std::printf("note: %s\n", n.c_str());
   std::printf("\n%s%s%s%s%s%s\n", pad("axis", 10).c_str(), pad("travel used", 24).c_str(), pad("allowed", 22).c_str(),
               pad("peak |vel|", 20).c_str(), pad("peak |acc|", 20).c_str(), "peak |jerk|");
-  std::vector<std::string> unchecked;
   for (std::size_t a = 0; a < s.axes.size(); ++a) {
     const AxisSpec& ax = s.axes[a];
     const AxisPeaks& p = r.peaks[a];
@@ -134,11 +133,8 @@ void print_table(const Loaded& l) {
     std::printf("%s%s%s%s%s%s\n", pad(ax.name + unit, 10).c_str(),
                 pad(num(p.pos_min) + " .. " + num(p.pos_max) + (pos_bad ? " !" : ""), 24).c_str(), pad(allowed, 22).c_str(),
                 pad(cell(p.vel, ax.vel), 20).c_str(), pad(cell(p.acc, ax.acc), 20).c_str(), cell(p.jerk, ax.jerk).c_str());
-    if (!ax.min && !ax.max) unchecked.push_back(ax.name + " travel");
-    if (!ax.vel) unchecked.push_back(ax.name + " vel");
-    if (!ax.acc) unchecked.push_back(ax.name + " acc");
-    if (!ax.jerk) unchecked.push_back(ax.name + " jerk");
   }
+  const std::vector<std::string> unchecked = unchecked_limits(s);
   if (!unchecked.empty()) {
     std::string list;
     for (const auto& u : unchecked) list += (list.empty() ? "" : ", ") + u;

@@ -15,6 +15,17 @@ std::vector<AxisLimits> scene_limits(const Scene& scene) {
   return l;
 }
 
+std::vector<std::string> unchecked_limits(const Scene& scene) {
+  std::vector<std::string> out;
+  for (const AxisSpec& ax : scene.axes) {
+    if (!ax.min && !ax.max) out.push_back(ax.name + " travel");
+    if (!ax.vel) out.push_back(ax.name + " vel");
+    if (!ax.acc) out.push_back(ax.name + " acc");
+    if (!ax.jerk) out.push_back(ax.name + " jerk");
+  }
+  return out;
+}
+
 const char* to_string(Quantity q) {
   switch (q) {
     case Quantity::kPos: return "pos";

@@ -163,7 +163,6 @@ void App::report_tab() {
 
   // The `check` table, one column per axis (it fits the side panel): travel used, allowed range,
   // peak |vel|, |acc|, |jerk| with % of limit; "!" and red where a limit is exceeded.
-  std::vector<std::string> unchecked;
   const int na = int(std::min<std::size_t>(s.axes.size(), 63));
   const ImGuiTableFlags tf = ImGuiTableFlags_RowBg | ImGuiTableFlags_BordersInnerV | ImGuiTableFlags_SizingFixedFit |
                              ImGuiTableFlags_ScrollX;
@@ -208,12 +207,7 @@ void App::report_tab() {
     }
     ImGui::EndTable();
   }
-  for (const AxisSpec& ax : s.axes) {
-    if (!ax.min && !ax.max) unchecked.push_back(ax.name + " travel");
-    if (!ax.vel) unchecked.push_back(ax.name + " vel");
-    if (!ax.acc) unchecked.push_back(ax.name + " acc");
-    if (!ax.jerk) unchecked.push_back(ax.name + " jerk");
-  }
+  const std::vector<std::string> unchecked = unchecked_limits(s);
   if (!unchecked.empty()) {
     std::string list;
     for (const auto& u : unchecked) list += (list.empty() ? "" : ", ") + u;
