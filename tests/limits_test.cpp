@@ -8,6 +8,7 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <limits>
 #include <numbers>
 #include <random>
 #include <vector>
@@ -476,4 +477,149 @@ TEST_CASE("limits: random piecewise cubics agree with dense sampling", "[limits]
   INFO("violations " << total_violations << ", interior interval ends " << interior_ends);
   CHECK(total_violations > 40);
   CHECK(interior_ends > 40);
+}
+
+// ---- piecewise-polynomial trajectories of higher degree (Trajectory::poly_pieces) -------------
+
+namespace {
+
+// x(t) = T_n(t) on [-1, 1], the Chebyshev polynomial of the first kind, split into pieces at
+// `cuts`; exposes its piecewise-polynomial form (coefficients in sigma = (t - t_k) / h_k).
+class ChebyshevTrajectory final : public Trajectory {
+ public:
+  ChebyshevTrajectory(int n, std::vector<double> cuts) : br_(std::move(cuts)) {
+    // Monomial coefficients by T_{k+1} = 2 t T_k - T_{k-1} (identity); integers, exact in double.
+    std::vector<double> a{1.0}, b{0.0, 1.0};
+    if (n == 0) b = a;
+    for (int k = 1; k < n; ++k) {
+      std::vector<double> c(std::size_t(k) + 2, 0.0);
+      for (std::size_t j = 0; j < b.size(); ++j) c[j + 1] += 2.0 * b[j];
+      for (std::size_t j = 0; j < a.size(); ++j) c[j] -= a[j];
+      a = b;
+      b = c;
+    }
+    mono_ = b;
+  }
+  [[nodiscard]] Index axes() const override { return 1; }
+  [[nodiscard]] double t_begin() const override { return br_.front(); }
+  [[nodiscard]] double t_end() const override { return br_.back(); }
+  // d-th derivative of the monomial form at t (Horner on the differentiated coefficients).
+  [[nodiscard]] double deriv(double t, int d) const {
+    double v = 0.0;
+    for (std::size_t j = mono_.size(); j-- > std::size_t(d);) {
+      double w = 1.0;
+      for (int i = 0; i < d; ++i) w *= double(j - std::size_t(i));
+      v = v * t + w * mono_[j];
+    }
+    return v;
+  }
+  void eval(double t, int d, Eigen::Ref<Eigen::VectorXd> out) const override { out[0] = deriv(t, d); }
+  [[nodiscard]] std::vector<double> breaks() const override { return br_; }
+  // How far a root of T_n - L found from the piece polynomials can lie from the true one: Horner's
+  // rounding bound |p_computed - p| <= gamma_2n sum |c_j| sigma^j (Higham, Accuracy and Stability
+  // of Numerical Algorithms, 2nd ed., eq. 5.3; recalled), divided by the slope |T_n'(t)|.
+  [[nodiscard]] double root_tol(double t) const { return value_tol(t) / std::abs(deriv(t, 1)) + 1e-15; }
+  // The same bound for a value: on the piece polynomial, and on the monomial form (eval).
+  [[nodiscard]] double value_tol(double t) const {
+    const double gamma = 2.0 * double(mono_.size() - 1) * std::numeric_limits<double>::epsilon();
+    double mono = 0.0;
+    for (std::size_t j = 0; j < mono_.size(); ++j) mono += std::abs(mono_[j]) * std::pow(std::abs(t), double(j));
+    PolyPieces pp;
+    (void)poly_pieces(pp);
+    std::size_t k = 0;
+    while (k + 2 < br_.size() && t > br_[k + 1]) ++k;
+    const double sg = (t - br_[k]) / (br_[k + 1] - br_[k]);
+    double sum = 0.0, x = 1.0;
+    for (int j = 0; j <= pp.degree; ++j, x *= sg) sum += std::abs(pp.coeffs(k, 0)[j]) * x;
+    return 2.0 * gamma * std::max(sum, mono);
+  }
+  [[nodiscard]] bool poly_pieces(PolyPieces& out) const override {
+    const int D = int(mono_.size()) - 1;
+    out.degree = D;
+    out.axes = 1;
+    out.t = br_;
+    out.c.clear();
+    for (std::size_t k = 0; k + 1 < br_.size(); ++k) {
+      const double a = br_[k], h = br_[k + 1] - a;
+      double f = 1.0, hk = 1.0;  // Taylor at a: p^(j)(a) / j! h^j (identity)
+      for (int j = 0; j <= D; ++j) {
+        out.c.push_back(deriv(a, j) / f * hk);
+        f *= double(j + 1);
+        hk *= h;
+      }
+    }
+    return true;
+  }
+
+ private:
+  std::vector<double> br_, mono_;
+};
+
+}  // namespace
+
+TEST_CASE("limits: degree-15 Chebyshev polynomial, exact peaks and crossings (identities)", "[limits]") {
+  // T_15 on [-1, 1] in three pieces. Identities: |T_n| <= 1 with T_n(1) = 1, T_n(-1) = -1;
+  // T_n(cos th) = cos(n th), so |T_n(t)| > L exactly on the arcs where |cos(n th)| > L, whose ends
+  // are t = cos((j pi +- acos(L)) / n); |T_n'| peaks at the ends, T_n'(1) = n^2.
+  const int n = 15;
+  const ChebyshevTrajectory tr(n, {-1.0, -0.3, 0.45, 1.0});
+  AxisLimits l;
+  l.min = -0.9;  // T_15 dips below -0.9 and rises above 0.9 near each of its 16 extrema
+  l.max = 0.9;
+  l.vel = 200.0;  // |T_15'| = 225 at t = +-1, and above 200 only near the ends
+  const Report r = check_limits(tr, {l});
+  REQUIRE(r.exact);
+  const AxisPeaks& p = r.peaks[0];
+  CHECK(std::abs(p.pos_max - 1.0) <= tr.value_tol(p.t_pos_max));
+  CHECK(std::abs(p.pos_min + 1.0) <= tr.value_tol(p.t_pos_min));
+  CHECK(p.vel == Approx(double(n * n)).epsilon(1e-12));
+  CHECK(std::abs(std::abs(p.t_vel) - 1.0) <= 1e-12);
+  // Position intervals: above 0.9 where cos(n th) > 0.9, below -0.9 where cos(n th) < -0.9.
+  std::vector<std::pair<double, double>> want_hi, want_lo;
+  const double w = std::acos(0.9);
+  for (int j = 0; j <= n; ++j) {
+    const double th0 = std::max(0.0, (j * std::numbers::pi - w) / n), th1 = std::min(std::numbers::pi, (j * std::numbers::pi + w) / n);
+    const std::pair<double, double> iv{std::cos(th1), std::cos(th0)};
+    (j % 2 == 0 ? want_hi : want_lo).push_back(iv);
+  }
+  std::vector<std::pair<double, double>> got_hi, got_lo;
+  for (const Violation& v : r.violations) {
+    if (v.quantity != Quantity::kPos) continue;
+    (v.limit > 0 ? got_hi : got_lo).push_back({v.t_start, v.t_end});
+    CHECK(std::abs(std::abs(v.peak) - 1.0) <= tr.value_tol(v.t_peak));  // each arc peaks at |T_n| = 1
+  }
+  auto sorted = [](std::vector<std::pair<double, double>> x) {
+    std::sort(x.begin(), x.end());
+    return x;
+  };
+  want_hi = sorted(want_hi);
+  want_lo = sorted(want_lo);
+  REQUIRE(got_hi.size() == want_hi.size());
+  REQUIRE(got_lo.size() == want_lo.size());
+  for (std::size_t k = 0; k < got_hi.size(); ++k) {
+    C2PATH_CHECK_NEAR("above: start", k, got_hi[k].first, want_hi[k].first, 0, tr.root_tol(want_hi[k].first));
+    C2PATH_CHECK_NEAR("above: end", k, got_hi[k].second, want_hi[k].second, 0, tr.root_tol(want_hi[k].second));
+  }
+  for (std::size_t k = 0; k < got_lo.size(); ++k) {
+    C2PATH_CHECK_NEAR("below: start", k, got_lo[k].first, want_lo[k].first, 0, tr.root_tol(want_lo[k].first));
+    C2PATH_CHECK_NEAR("below: end", k, got_lo[k].second, want_lo[k].second, 0, tr.root_tol(want_lo[k].second));
+  }
+  // Velocity: two intervals, touching the ends; each crossing is where |T_15'| = 200, which the
+  // trajectory itself confirms (the interval end is a root, found to full precision).
+  std::vector<Violation> vel;
+  for (const Violation& v : r.violations)
+    if (v.quantity == Quantity::kVel) vel.push_back(v);
+  REQUIRE(vel.size() == 2);
+  CHECK(vel[0].t_start == -1.0);
+  CHECK(vel[1].t_end == 1.0);
+  CHECK(std::abs(std::abs(tr.deriv(vel[0].t_end, 1)) - 200.0) <= 1e-9);
+  CHECK(std::abs(std::abs(tr.deriv(vel[1].t_start, 1)) - 200.0) <= 1e-9);
+  CHECK(vel[0].peak == Approx(225.0).epsilon(1e-12));
+  // The same trajectory sampled (force_sampled) agrees within the sampled check's stated bound.
+  CheckOptions o;
+  o.force_sampled = true;
+  const Report s = check_limits(tr, {l}, o);
+  CHECK_FALSE(s.exact);
+  CHECK(std::abs(s.peaks[0].vel - p.vel) <= s.sample_bound * 200.0 + 1e-9);
+  CHECK(s.violations.size() == r.violations.size());
 }

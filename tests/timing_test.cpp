@@ -75,7 +75,7 @@ TEST_CASE("timing: fastest one axis, v and a only, matches the trapezoid and the
     CHECK(T <= ref * 1.005);         // issue 3: fastest within 0.5%
     const Report r = check_limits(*p.trajectory, p.limits);
     CHECK(r.ok);
-    CHECK_FALSE(r.exact);  // a composed time law is checked by sampling
+    CHECK(r.exact);  // a composed time law on a spline path is piecewise polynomial: checked exactly
     // It ends where it should, at rest (identity: q(u_end) is the last waypoint).
     Eigen::MatrixXd st(1, 4);
     p.trajectory->eval_all(p.trajectory->t_end(), st);
@@ -232,7 +232,10 @@ TEST_CASE("timing: fastest sampled at 10 kHz stays within every limit and is C2"
   Eigen::MatrixXd l(3, 4), rr(3, 4);
   for (double t : p.trajectory->breaks()) {
     if (t <= p.trajectory->t_begin() || t >= p.trajectory->t_end()) continue;
-    const double tm = t - 1e-9, tp = t + 1e-9, gap = tp - tm;  // the gap as represented
+    // The gap as represented. 2e-7 s rather than less: the smoothed law's du/dt is a difference
+    // of two base-law values divided by the window, so a velocity carries a rounding error of
+    // about 1e-13 here, which must stay far below peak |acc| x gap (hand estimate).
+    const double tm = t - 1e-7, tp = t + 1e-7, gap = tp - tm;
     p.trajectory->eval_all(tm, l);
     p.trajectory->eval_all(tp, rr);
     for (Index a = 0; a < 3; ++a) {
@@ -507,4 +510,139 @@ TEST_CASE("timing: the sampled check finds peaks and crossings within its stated
   coarse.samples_per_piece = 3;
   const Report r2 = check_limits(SineTrajectory(2.0, 3.0, 1.0), {tight}, coarse);
   CHECK_FALSE(r2.ok);
+}
+
+// ---- exact checks of composed time laws (PathTrajectory::poly_pieces) ---------------------------
+
+TEST_CASE("timing: duration mode on a line, exact peaks and intervals of the quintic in closed form", "[timing]") {
+  // Two waypoints give a straight line, so x(t) = h p(t / T), p(s) = 10 s^3 - 15 s^4 + 6 s^5
+  // (limits.hpp's quintic). By hand from p: v = (h/T) 30 s^2 (1-s)^2, peak 15h/(8T) at s = 1/2;
+  // a = (h/T^2) 60 s (1-s)(1-2s), peak (10/sqrt 3) h/T^2 at s = (3 -+ sqrt 3)/6;
+  // j = (h/T^3) 60 (1 - 6s + 6s^2), peak 60 h/T^3 at s = 0 and 1.
+  // |v| > V where s(1-s) > r = sqrt(V T / (30 h)): s in ((1 - sqrt(1-4r))/2, (1 + sqrt(1-4r))/2);
+  // |j| > J where 6 s^2 - 6 s + 1 > c = J T^3 / (60 h): s < (6 - sqrt(36 - 24 (1 - c))) / 12 and
+  // the mirror image (hand).
+  const double h = 2.0, T = 4.0, V = 0.8, J = 1.5;
+  const std::string yaml = "format: 1\nrig:\n  axes:\n    - {name: x, unit: m, vel: 0.8, acc: 10, jerk: 1.5}\n"
+                           "timing: {mode: duration, duration: 4}\nwaypoints:\n  - {x: 0}\n  - {x: 2}\n";
+  const Plan p = plan_text(yaml);
+  const Report r = check_limits(*p.trajectory, p.limits);
+  REQUIRE(r.exact);
+  const AxisPeaks& k = r.peaks[0];
+  CHECK(k.pos_min == 0.0);  // at rest on the waypoints: exactly their values
+  CHECK(k.pos_max == 2.0);
+  CHECK(k.vel == Approx(15.0 * h / (8.0 * T)).epsilon(1e-14));
+  CHECK(k.t_vel == Approx(T / 2).epsilon(1e-9));
+  CHECK(k.acc == Approx(10.0 / std::sqrt(3.0) * h / (T * T)).epsilon(1e-14));
+  CHECK(k.jerk == Approx(60.0 * h / (T * T * T)).epsilon(1e-14));
+  const double rr = std::sqrt(V * T / (30.0 * h)), s1 = (1.0 - std::sqrt(1.0 - 4.0 * rr)) / 2.0;
+  const double c = J * T * T * T / (60.0 * h), sj = (6.0 - std::sqrt(36.0 - 24.0 * (1.0 - c))) / 12.0;
+  int nv = 0, nj = 0;
+  for (const Violation& v : r.violations) {
+    INFO(to_string(v.quantity) << " " << v.t_start << " .. " << v.t_end);
+    if (v.quantity == Quantity::kVel) {
+      ++nv;
+      CHECK(v.t_start == Approx(s1 * T).epsilon(1e-12));
+      CHECK(v.t_end == Approx((1.0 - s1) * T).epsilon(1e-12));
+      CHECK(v.peak == Approx(15.0 * h / (8.0 * T)).epsilon(1e-14));
+    } else if (v.quantity == Quantity::kJerk) {
+      ++nj;
+      if (v.t_start == 0.0) CHECK(v.t_end == Approx(sj * T).epsilon(1e-12));
+      else CHECK(v.t_start == Approx((1.0 - sj) * T).epsilon(1e-12));
+      CHECK(v.peak == Approx(60.0 * h / (T * T * T)).epsilon(1e-14));
+    }
+  }
+  CHECK(nv == 1);
+  CHECK(nj == 2);
+  CHECK(r.violations.size() == 3);
+}
+
+TEST_CASE("timing: the piecewise-polynomial form reproduces the trajectory; exact peaks bound dense samples", "[timing]") {
+  // Identity: poly_pieces is the same function as eval_all (chain rule) written as polynomials.
+  // Mean value theorem: every sample lies within the exact peaks, and the exact peak lies within
+  // (sample spacing / 2) x (peak of the next derivative) of the best sample.
+  const char* scenes[] = {kThreeAxisTour, R"(format: 1
+rig:
+  axes:
+    - {name: track, unit: m,   vel: 0.8, acc: 1.5, jerk: 8}
+    - {name: pan,   unit: deg, vel: 60,  acc: 120, jerk: 600}
+timing: {mode: duration, duration: 9}
+waypoints:
+  - {track: 0.2, pan: -30}
+  - {track: 0.9, pan: 10, hold: 1.25}
+  - {track: 1.4, pan: 40, stop: true}
+  - {track: 1.1, pan: 5}
+  - {track: 2.0, pan: -25}
+)", R"(format: 1
+rig:
+  axes:
+    - {name: track, unit: m,   vel: 0.8, acc: 1.5, jerk: 8}
+    - {name: pan,   unit: deg, vel: 60,  acc: 120, jerk: 600}
+timing: {mode: fastest}
+waypoints:
+  - {track: 0.2, pan: -30}
+  - {track: 0.9, pan: 10, hold: 0.5}
+  - {track: 1.4, pan: 40, stop: true}
+  - {track: 1.1, pan: 5}
+  - {track: 2.0, pan: -25}
+)"};
+  int which = 0;
+  for (const char* text : scenes) {
+    INFO("scene " << which++);
+    const Plan p = plan_text(text);
+    PolyPieces pp;
+    REQUIRE(p.trajectory->poly_pieces(pp));
+    const Index m = p.trajectory->axes();
+    REQUIRE(pp.t.front() == p.trajectory->t_begin());
+    REQUIRE(pp.t.back() == p.trajectory->t_end());
+    Eigen::MatrixXd st(m, 4);
+    double worst = 0.0;
+    for (std::size_t k = 0; k < pp.pieces(); ++k) {
+      const double h = pp.t[k + 1] - pp.t[k];
+      for (const double sg : {0.25, 0.5, 0.75}) {
+        p.trajectory->eval_all(pp.t[k] + sg * h, st);
+        for (Index a = 0; a < m; ++a) {
+          const double* c = pp.coeffs(k, a);
+          double v[4] = {0, 0, 0, 0};  // value and sigma-derivatives by Horner
+          for (int j = pp.degree; j >= 0; --j) {
+            v[3] = v[3] * sg + 3.0 * v[2];
+            v[2] = v[2] * sg + 2.0 * v[1];
+            v[1] = v[1] * sg + v[0];
+            v[0] = v[0] * sg + c[j];
+          }
+          // v[d] is the d-th sigma-derivative; d/dt = (1/h) d/dsigma.
+          for (int d = 0; d < 4; ++d) {
+            const double got = v[d] / std::pow(h, d);
+            const double want = st(a, d);
+            const double scale = std::max({1.0, std::abs(want), *p.limits[std::size_t(a)].vel * (d == 0 ? 1.0 : 0.0)});
+            worst = std::max(worst, std::abs(got - want) / scale);
+            if (d < 3) C2PATH_CHECK_NEAR("poly vs eval_all", d, got, want, 1e-9, 1e-9 * scale);
+          }
+        }
+      }
+    }
+    INFO("largest relative difference " << worst);
+    const Report r = check_limits(*p.trajectory, p.limits);
+    REQUIRE(r.exact);
+    const double step = 2e-4;
+    const Sampled s = sample(*p.trajectory, 1.0 / step);
+    for (Index a = 0; a < m; ++a) {
+      const AxisPeaks& k = r.peaks[std::size_t(a)];
+      double sv = 0, sa = 0, smin = 1e300, smax = -1e300;
+      for (const auto& x : s.x) {
+        sv = std::max(sv, std::abs(x(a, 1)));
+        sa = std::max(sa, std::abs(x(a, 2)));
+        smin = std::min(smin, x(a, 0));
+        smax = std::max(smax, x(a, 0));
+      }
+      const double tol = 1e-12 * std::max(1.0, k.vel + k.acc);
+      CHECK(sv <= k.vel + tol);
+      CHECK(sa <= k.acc + tol);
+      CHECK(smin >= k.pos_min - 1e-12);
+      CHECK(smax <= k.pos_max + 1e-12);
+      CHECK(k.vel - sv <= k.acc * step / 2 + tol);
+      CHECK(k.acc - sa <= k.jerk * step / 2 + tol);
+    }
+    if (std::string(text).find("fastest") != std::string::npos) CHECK(r.ok);
+  }
 }

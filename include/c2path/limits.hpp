@@ -63,6 +63,9 @@ struct CheckOptions {
   double sample_tol = 1e-6;
   /// ... and of each jerk limit (a first-order bound, hence looser).
   double sample_tol_jerk = 1e-3;
+  /// Sample even a trajectory that has an exact piecewise-polynomial form (for comparing the
+  /// two methods; cubic-in-time trajectories are always checked exactly).
+  bool force_sampled = false;
   void validate() const;
 };
 
@@ -85,8 +88,10 @@ struct Report {
 };
 
 /// Checks a trajectory against per-axis limits (limits.size() == trajectory.axes()).
-/// Exact for piecewise-cubic trajectories: extremes from the roots of the next derivative,
-/// interval ends from the roots of (quantity - limit), merged across pieces.
+/// Exact for piecewise-polynomial trajectories (keyframes: cubic in time; duration and fastest
+/// plans on a spline path: Trajectory::poly_pieces, degree <= 15): extremes from the roots of the
+/// next derivative, interval ends from the roots of (quantity - limit), merged across pieces.
+/// Other trajectories are sampled with a stated bound (Report::sample_bound).
 [[nodiscard]] Report check_limits(const Trajectory& trajectory, const std::vector<AxisLimits>& limits,
                                   const CheckOptions& options = {});
 

@@ -29,6 +29,9 @@ class Path {
   [[nodiscard]] virtual std::vector<double> breaks() const = 0;
   /// Segment boundaries (the rig comes to rest at each): increasing, both ends included.
   [[nodiscard]] virtual std::vector<double> stops() const = 0;
+  /// True when q(u) is a cubic polynomial between consecutive breaks (so its Taylor expansion
+  /// from eval() at any point of a piece is exact over that piece).
+  [[nodiscard]] virtual bool piecewise_cubic() const { return false; }
 };
 
 /// A path made of C2 cubic splines, one per segment, contiguous in u (segment k ends where
@@ -42,6 +45,7 @@ class SplinePath final : public Path {
   void eval(double u, int deriv, Eigen::Ref<Eigen::VectorXd> out) const override;
   [[nodiscard]] std::vector<double> breaks() const override;
   [[nodiscard]] std::vector<double> stops() const override;
+  [[nodiscard]] bool piecewise_cubic() const override { return true; }
   /// The segments' splines, in order.
   [[nodiscard]] const std::vector<CubicSpline>& segments() const noexcept { return segments_; }
   /// Index of the segment that evaluates u.

@@ -48,6 +48,10 @@ class TimeLaw {
   /// times factor, du/dt divided by factor, d2u/dt2 by factor^2, d3u/dt3 by factor^3); holds keep
   /// their length. Each moving part starts and ends at rest, so this is exact.
   [[nodiscard]] std::shared_ptr<const TimeLaw> stretched(double factor) const;
+  /// u(ta + sigma (tb - ta)) = sum_k c[k] sigma^k for sigma in [0, 1], on an interval [ta, tb]
+  /// that lies between two consecutive breaks(): returns the degree (<= 5), or -1 when the law
+  /// is not polynomial there. c has room for 6 coefficients.
+  [[nodiscard]] int poly_on(double ta, double tb, double* c) const;
 
  private:
   [[nodiscard]] std::size_t part_of(double t) const;
@@ -66,6 +70,9 @@ class PathTrajectory final : public Trajectory {
   void eval_all(double t, Eigen::Ref<Eigen::MatrixXd> out) const override;
   /// The time law's breaks together with the times at which the path's breaks are passed.
   [[nodiscard]] std::vector<double> breaks() const override;
+  /// Piecewise polynomial (degree 3 x the time law's, <= 15) when the path is piecewise cubic
+  /// and the time law is polynomial between its breaks: pieces between consecutive breaks().
+  [[nodiscard]] bool poly_pieces(PolyPieces& out) const override;
   [[nodiscard]] const TimeLaw& law() const { return *law_; }
   [[nodiscard]] const Path& path() const { return *path_; }
 

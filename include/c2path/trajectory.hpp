@@ -9,6 +9,20 @@
 
 namespace c2path {
 
+/// A trajectory in piecewise-polynomial form: on [t[k], t[k+1]], axis a's position is
+/// sum_j c[(k * axes + a) * (degree + 1) + j] * sigma^j with sigma = (t - t[k]) / (t[k+1] - t[k])
+/// in [0, 1]. Degree is the same for every piece (higher coefficients may be zero).
+struct PolyPieces {
+  int degree = 0;
+  Index axes = 0;
+  std::vector<double> t;  ///< break times, increasing (pieces + 1) [s]
+  std::vector<double> c;  ///< pieces x axes x (degree + 1) coefficients [unit]
+  [[nodiscard]] std::size_t pieces() const { return t.empty() ? 0 : t.size() - 1; }
+  [[nodiscard]] const double* coeffs(std::size_t k, Index a) const {
+    return c.data() + (k * std::size_t(axes) + std::size_t(a)) * std::size_t(degree + 1);
+  }
+};
+
 /// Joint positions as a function of time t in [t_begin, t_end] [s], with velocity, acceleration
 /// and jerk. The checker, exporter and viewer see a move only through this interface, whatever
 /// timing mode produced it.
@@ -28,6 +42,12 @@ class Trajectory {
   /// When the trajectory is piecewise cubic in time: its splines (parameter = time), in order and
   /// contiguous, so that checks can be exact. nullptr otherwise.
   [[nodiscard]] virtual const std::vector<CubicSpline>* cubic_pieces() const { return nullptr; }
+  /// When the trajectory is piecewise polynomial in time (of degree <= 15) but not cubic: fills
+  /// `out` and returns true, so that checks can be exact. False otherwise.
+  [[nodiscard]] virtual bool poly_pieces(PolyPieces& out) const {
+    (void)out;
+    return false;
+  }
 };
 
 /// A trajectory that is piecewise cubic in time: a sequence of splines in t, contiguous

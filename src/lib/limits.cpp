@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <string>
 
 #include "c2path/error.hpp"
@@ -212,6 +213,167 @@ void check_exact(const std::vector<CubicSpline>& pieces, const std::vector<AxisL
           for (const auto& v : both) st.add(v.t_start, v.t_end, v.peak, v.t_peak);
         }
       }
+  }
+  for (auto& st : streams) st.finish(r.violations);
+}
+
+// Piecewise-polynomial trajectories (a time law on a piecewise-cubic path): exact like
+// check_exact, on polynomials of degree <= 15 in sigma = (t - t_k) / h_k. Peaks by branch and
+// bound: the Bernstein coefficients of a piece bound it from above (convex hull property), its
+// ends are values it takes; only pieces whose bound beats the best value found so far are solved
+// exactly (ends and roots of the derivative). Violations: pieces whose bound reaches beyond a
+// limit are split at the roots of p - limit.
+
+// d-th time derivative of piece k, axis a, as a polynomial in sigma (degree D - d) in g.
+int poly_deriv(const PolyPieces& P, std::size_t k, Index a, int d, double* g) {
+  const int D = P.degree;
+  const double* c = P.coeffs(k, a);
+  const double h = P.t[k + 1] - P.t[k];
+  const double ih = h > 0 ? 1.0 / h : 0.0;
+  double f = 1.0;
+  for (int i = 0; i < d; ++i) f *= ih;
+  for (int j = 0; j + d <= D; ++j) {
+    double w = 1.0;
+    for (int i = 1; i <= d; ++i) w *= double(j + i);
+    g[j] = c[j + d] * w * f;
+  }
+  return std::max(D - d, 0);
+}
+
+// Sub-intervals of [0, 1] where side * (g(sigma) - L) > 0, each with its extreme, as times.
+template <class Own>
+void exceed_sigma(const double* g, int deg, double L, int side, double t0, double t1, Stream& st, bool magnitude, const Own& own) {
+  double shifted[detail::kMaxPolyDegree + 1];
+  for (int k = 0; k <= deg; ++k) shifted[k] = g[k];
+  shifted[0] -= L;
+  double pts[detail::kMaxPolyDegree + 2];
+  int np = 0;
+  pts[np++] = 0.0;
+  double roots[detail::kMaxPolyDegree];
+  const int nr = detail::poly_roots_in(shifted, deg, 0.0, 1.0, roots);
+  for (int k = 0; k < nr; ++k) pts[np++] = roots[k];
+  pts[np++] = 1.0;
+  const double h = t1 - t0;
+  auto to_t = [&](double sg) { return sg == 0.0 ? t0 : (sg == 1.0 ? t1 : t0 + sg * h); };
+  for (int k = 0; k + 1 < np; ++k) {
+    const double a = pts[k], b = pts[k + 1];
+    if (side * detail::poly_eval(shifted, deg, 0.5 * (a + b)) > 0) {
+      const auto [val, sg] = detail::poly_extreme(g, deg, a, b, side);
+      const double v = own(to_t(sg), val);
+      st.add(to_t(a), to_t(b), magnitude ? std::abs(v) : v, to_t(sg));
+    }
+  }
+}
+
+void check_poly(const Trajectory& tr, const PolyPieces& P, const std::vector<AxisLimits>& limits, double rel_tol, Report& r) {
+  const std::size_t m = limits.size(), n = P.pieces();
+  // Position, velocity and acceleration are continuous: their reported values are the
+  // trajectory's own at the time found (a waypoint at rest reads exactly its value), not the
+  // composed polynomial's (a few ulps off). Jerk may jump at breaks, so it keeps the
+  // polynomial's one-sided value.
+  Eigen::MatrixXd st4(Index(m), 4);
+  auto own = [&](double t, Index a, int d, double poly_value) {
+    if (d > 2) return poly_value;
+    tr.eval_all(t, st4);
+    return st4(a, d);
+  };
+  r.peaks.assign(m, AxisPeaks{});
+  // Bernstein range of every piece's position and derivatives: lo/hi[(k * m + a) * 4 + d].
+  std::vector<double> blo(n * m * 4), bhi(n * m * 4);
+  double g[detail::kMaxPolyDegree + 1], b[detail::kMaxPolyDegree + 1];
+  for (std::size_t k = 0; k < n; ++k)
+    for (std::size_t a = 0; a < m; ++a)
+      for (int d = 0; d < 4; ++d) {
+        const int deg = poly_deriv(P, k, Index(a), d, g);
+        detail::bernstein(g, deg, b);
+        double lo = b[0], hi = b[0];
+        for (int i = 1; i <= deg; ++i) {
+          lo = std::min(lo, b[i]);
+          hi = std::max(hi, b[i]);
+        }
+        blo[(k * m + a) * 4 + std::size_t(d)] = lo;
+        bhi[(k * m + a) * 4 + std::size_t(d)] = hi;
+      }
+  std::vector<std::pair<double, std::size_t>> cand;
+  for (std::size_t a = 0; a < m; ++a) {
+    AxisPeaks& pk = r.peaks[a];
+    // side +1 / -1 of the position, then |vel|, |acc|, |jerk| (side 0: magnitude).
+    for (int qd = 0; qd < 5; ++qd) {
+      const int d = qd < 2 ? 0 : qd - 1, side = qd == 0 ? 1 : qd == 1 ? -1 : 0;
+      // The best value found (as side * value, or magnitude) and when.
+      double best = -std::numeric_limits<double>::infinity(), tbest = P.t.front();
+      auto score = [&](double v) { return side == 0 ? std::abs(v) : side * v; };
+      cand.clear();
+      for (std::size_t k = 0; k < n; ++k) {
+        const std::size_t i = (k * m + a) * 4 + std::size_t(d);
+        const int deg = poly_deriv(P, k, Index(a), d, g);
+        const double e0 = g[0], e1 = detail::poly_eval(g, deg, 1.0);
+        if (score(e0) > best) { best = score(e0); tbest = P.t[k]; }
+        if (score(e1) > best) { best = score(e1); tbest = P.t[k + 1]; }
+        const double ub = side == 0 ? std::max(std::abs(blo[i]), std::abs(bhi[i])) : side > 0 ? bhi[i] : -blo[i];
+        cand.push_back({ub, k});
+      }
+      std::sort(cand.begin(), cand.end(), [](const auto& x, const auto& y) { return x.first > y.first || (x.first == y.first && x.second < y.second); });
+      for (const auto& [ub, k] : cand) {
+        if (!(ub > best)) break;
+        const int deg = poly_deriv(P, k, Index(a), d, g);
+        const double h = P.t[k + 1] - P.t[k];
+        for (int sd : {+1, -1}) {
+          if (side != 0 && sd != side) continue;
+          const auto [val, sg] = detail::poly_extreme(g, deg, 0.0, 1.0, sd);
+          if (score(val) > best) {
+            best = score(val);
+            tbest = sg == 1.0 ? P.t[k + 1] : P.t[k] + sg * h;
+          }
+        }
+      }
+      if (std::isfinite(best)) {
+        const double v = own(tbest, Index(a), d, side < 0 ? -best : best);
+        best = side == 0 ? std::abs(v) : side * v;
+      }
+      switch (qd) {
+        case 0: pk.pos_max = best; pk.t_pos_max = tbest; break;
+        case 1: pk.pos_min = -best; pk.t_pos_min = tbest; break;
+        case 2: pk.vel = best; pk.t_vel = tbest; break;
+        case 3: pk.acc = best; pk.t_acc = tbest; break;
+        default: pk.jerk = best; pk.t_jerk = tbest; break;
+      }
+    }
+  }
+  std::vector<Stream> streams = make_streams(limits, r.peaks, rel_tol);
+  for (auto& st : streams) {
+    const AxisPeaks& pk = r.peaks[std::size_t(st.axis)];
+    const double peak = st.q == Quantity::kPos ? (st.side > 0 ? pk.pos_max : pk.pos_min)
+                        : st.q == Quantity::kVel ? pk.vel : st.q == Quantity::kAcc ? pk.acc : pk.jerk;
+    const double excess = st.q == Quantity::kPos ? st.side * (peak - st.limit) : peak - st.limit;
+    if (!(excess > st.tol)) continue;
+    const int d = deriv_of(st.q);
+    auto own_st = [&](double t, double pv) { return own(t, st.axis, d, pv); };
+    for (std::size_t k = 0; k < n; ++k) {
+      const std::size_t i = (k * m + std::size_t(st.axis)) * 4 + std::size_t(d);
+      const double t0 = P.t[k], t1 = P.t[k + 1];
+      if (st.q == Quantity::kPos) {
+        if (!(st.side > 0 ? bhi[i] > st.limit : blo[i] < st.limit)) continue;
+        const int deg = poly_deriv(P, k, st.axis, d, g);
+        exceed_sigma(g, deg, st.limit, st.side, t0, t1, st, false, own_st);
+      } else {
+        const bool up_possible = bhi[i] > st.limit, down_possible = blo[i] < -st.limit;
+        if (!up_possible && !down_possible) continue;
+        const int deg = poly_deriv(P, k, st.axis, d, g);
+        Stream up{st.axis, st.q, st.limit, st.tol, +1, {}};
+        Stream down{st.axis, st.q, st.limit, st.tol, +1, {}};
+        if (up_possible) exceed_sigma(g, deg, st.limit, +1, t0, t1, up, true, own_st);
+        if (down_possible) {
+          double neg[detail::kMaxPolyDegree + 1];
+          for (int j = 0; j <= deg; ++j) neg[j] = -g[j];
+          exceed_sigma(neg, deg, st.limit, +1, t0, t1, down, true, [&](double t, double pv) { return -own_st(t, -pv); });
+        }
+        std::vector<Violation> both = up.out;
+        both.insert(both.end(), down.out.begin(), down.out.end());
+        std::sort(both.begin(), both.end(), [](const Violation& x, const Violation& y) { return x.t_start < y.t_start; });
+        for (const auto& v : both) st.add(v.t_start, v.t_end, v.peak, v.t_peak);
+      }
+    }
   }
   for (auto& st : streams) st.finish(r.violations);
 }
@@ -497,7 +659,9 @@ Report check_limits(const Trajectory& tr, const std::vector<AxisLimits>& limits,
   r.t_begin = tr.t_begin();
   r.t_end = tr.t_end();
   r.duration = tr.duration();
+  PolyPieces poly;
   if (const auto* pieces = tr.cubic_pieces()) check_exact(*pieces, limits, o.rel_tol, r);
+  else if (!o.force_sampled && tr.poly_pieces(poly)) check_poly(tr, poly, limits, o.rel_tol, r);
   else check_sampled(tr, limits, o, r);
   std::sort(r.violations.begin(), r.violations.end(), [](const Violation& x, const Violation& y) {
     if (x.t_start != y.t_start) return x.t_start < y.t_start;

@@ -10,6 +10,7 @@
 #include <string>
 
 #include "c2path/error.hpp"
+#include "detail/poly.hpp"
 #include "detail/time_law_part.hpp"
 
 namespace c2path {
@@ -24,6 +25,10 @@ struct HoldPart final : TimeLawPart {
     out[1] = out[2] = out[3] = 0.0;
   }
   [[nodiscard]] bool moving() const override { return false; }
+  int poly_on(double, double, double* c) const override {
+    c[0] = ua;
+    return 0;
+  }
 };
 
 // u = ua + L p(s), s = (t - t0) / T, p(s) = 10 s^3 - 15 s^4 + 6 s^5.
@@ -36,6 +41,19 @@ struct QuinticPart final : TimeLawPart {
     out[1] = L / T * 30.0 * s2 * (1.0 + s * (-2.0 + s));
     out[2] = L / (T * T) * 60.0 * s * (1.0 + s * (-3.0 + 2.0 * s));
     out[3] = L / (T * T * T) * 60.0 * (1.0 + s * (-6.0 + 6.0 * s));
+  }
+  // Taylor coefficients of p at s_a times delta^k: p^(k)(s_a) / k! delta^k.
+  int poly_on(double ta, double tb, double* c) const override {
+    const double T = t1 - t0, L = ub - ua;
+    const double s = std::clamp((ta - t0) / T, 0.0, 1.0), d = (tb - ta) / T;
+    const double s2 = s * s;
+    c[0] = ua + L * s2 * s * (10.0 + s * (-15.0 + 6.0 * s));
+    c[1] = L * d * s2 * (30.0 + s * (-60.0 + 30.0 * s));
+    c[2] = L * d * d * s * (30.0 + s * (-90.0 + 60.0 * s));
+    c[3] = L * d * d * d * (10.0 + s * (-60.0 + 60.0 * s));
+    c[4] = L * d * d * d * d * (-15.0 + 30.0 * s);
+    c[5] = L * d * d * d * d * d * 6.0;
+    return 5;
   }
 };
 
@@ -101,6 +119,23 @@ void SmoothPart::smoothed(double s, double* out) const {
   out[1] = (hi[0] - lo[0]) * it;  // du/dt = (u_0(s) - u_0(s - tau)) / tau
   out[2] = (hi[1] - lo[1]) * it;  // d2u/dt2 = (u_0'(s) - u_0'(s - tau)) / tau
   out[3] = (hi[2] - lo[2]) * it;  // d3u/dt3: the base acceleration entering and leaving the window
+}
+
+int SmoothPart::poly_on(double ta, double tb, double* c) const {
+  // Between two breaks u is a cubic in local time: its Taylor expansion at the midpoint (where
+  // no side of a break is involved), moved to the start of the interval.
+  const double sa = (ta - t0) / k, sb = (tb - t0) / k, H = sb - sa;
+  double m[4];
+  smoothed(0.5 * (sa + sb), m);
+  const double y = -0.5 * H;
+  const double d0 = m[0] + y * (m[1] + y * (0.5 * m[2] + y * m[3] / 6.0));
+  const double d1 = m[1] + y * (m[2] + 0.5 * y * m[3]);
+  const double d2 = m[2] + y * m[3];
+  c[0] = ua + d0;
+  c[1] = d1 * H;
+  c[2] = 0.5 * d2 * H * H;
+  c[3] = m[3] * H * H * H / 6.0;
+  return 3;
 }
 
 void SmoothPart::inner_breaks(std::vector<double>& out) const {
@@ -209,6 +244,7 @@ struct StretchedPart final : detail::TimeLawPart {
     for (double b : ob) out.push_back(t0 + (b - orig->t0) * factor);
   }
   [[nodiscard]] bool moving() const override { return orig->moving(); }
+  int poly_on(double ta, double tb, double* c) const override { return orig->poly_on(to_orig(ta), to_orig(tb), c); }
 };
 }  // namespace
 
@@ -228,6 +264,10 @@ std::shared_ptr<const TimeLaw> TimeLaw::stretched(double factor) const {
     parts.push_back(std::move(sp));
   }
   return std::make_shared<TimeLaw>(std::move(parts));
+}
+
+int TimeLaw::poly_on(double ta, double tb, double* c) const {
+  return parts_[part_of(0.5 * (ta + tb))]->poly_on(ta, tb, c);
 }
 
 double TimeLaw::time_of(double u) const {
@@ -296,6 +336,59 @@ std::vector<double> PathTrajectory::breaks() const {
   std::sort(b.begin(), b.end());
   b.erase(std::unique(b.begin(), b.end()), b.end());
   return b;
+}
+
+bool PathTrajectory::poly_pieces(PolyPieces& out) const {
+  if (!path_->piecewise_cubic()) return false;
+  const std::vector<double> br = breaks();
+  const std::size_t n = br.size() - 1;
+  const Index m = path_->axes();
+  std::vector<double> cu(n * 6, 0.0);
+  std::vector<int> du(n);
+  int dmax = 0;
+  for (std::size_t k = 0; k < n; ++k) {
+    du[k] = law_->poly_on(br[k], br[k + 1], &cu[k * 6]);
+    if (du[k] < 0) return false;
+    dmax = std::max(dmax, du[k]);
+  }
+  const int D = 3 * dmax, w = D + 1;
+  out.degree = D;
+  out.axes = m;
+  out.t = br;
+  out.c.assign(n * std::size_t(m) * std::size_t(w), 0.0);
+  Eigen::VectorXd d0(m), d1(m), d2(m), d3(m);
+  for (std::size_t k = 0; k < n; ++k) {
+    double x[16] = {}, x2[16] = {}, x3[16] = {};
+    const int dk = du[k];
+    const double* c = &cu[k * 6];
+    bool moving = false;
+    for (int j = 1; j <= dk; ++j) moving = moving || c[j] != 0.0;
+    double* row = out.c.data() + k * std::size_t(m) * std::size_t(w);
+    if (!moving) {
+      path_->eval(c[0], 0, d0);
+      for (Index a = 0; a < m; ++a) row[std::size_t(a) * std::size_t(w)] = d0[a];
+      continue;
+    }
+    // The path's cubic around u at the interval's middle, in x = u - u_mid; then x(sigma).
+    const double um = detail::poly_eval(c, dk, 0.5);
+    path_->eval(um, 0, d0);
+    path_->eval(um, 1, d1);
+    path_->eval(um, 2, d2);
+    path_->eval(um, 3, d3);
+    for (int j = 0; j <= dk; ++j) x[j] = c[j];
+    x[0] -= um;
+    for (int i = 0; i <= dk; ++i)
+      for (int j = 0; j <= dk; ++j) x2[i + j] += x[i] * x[j];
+    for (int i = 0; i <= 2 * dk; ++i)
+      for (int j = 0; j <= dk; ++j) x3[i + j] += x2[i] * x[j];
+    for (Index a = 0; a < m; ++a) {
+      double* p = row + std::size_t(a) * std::size_t(w);
+      const double p1 = d1[a], p2 = 0.5 * d2[a], p3 = d3[a] / 6.0;
+      for (int j = 0; j <= 3 * dk; ++j) p[j] = p1 * x[j] + p2 * x2[j] + p3 * x3[j];
+      p[0] += d0[a];
+    }
+  }
+  return true;
 }
 
 // ---- duration mode ---------------------------------------------------------------------------

@@ -6,6 +6,7 @@
 
 #include <cstdint>
 
+#include "c2path/time_law.hpp"
 #include "c2path/timing.hpp"
 
 namespace {
@@ -61,5 +62,28 @@ void BM_plan_fastest(benchmark::State& state) {
   state.counters["duration_s"] = duration;
 }
 BENCHMARK(BM_plan_fastest)->Arg(100)->Arg(1000)->Unit(benchmark::kMillisecond);
+
+// The parts of the whole plan: the path alone, and the planner without plan()'s final check.
+void BM_build_path(benchmark::State& state) {
+  const Scene s = long_move(std::size_t(state.range(0)));
+  for (auto _ : state) {
+    Plan p = build_path(s);
+    benchmark::DoNotOptimize(p.path.get());
+  }
+}
+BENCHMARK(BM_build_path)->Arg(1000)->Unit(benchmark::kMillisecond);
+
+void BM_plan_fastest_planner_only(benchmark::State& state) {
+  const Scene s = long_move(std::size_t(state.range(0)));
+  const Plan p = build_path(s);
+  std::size_t grid = 0;
+  for (auto _ : state) {
+    FastestResult r = plan_fastest(*p.path, p.limits, p.holds_s);
+    grid = r.grid_points;
+    benchmark::DoNotOptimize(r.law.get());
+  }
+  state.counters["grid_points"] = double(grid);
+}
+BENCHMARK(BM_plan_fastest_planner_only)->Arg(1000)->Unit(benchmark::kMillisecond);
 
 }  // namespace

@@ -46,12 +46,13 @@ int poly_roots_in(const double* c, int degree, double a, double b, double* out) 
     }
     return 0;
   }
+  if (degree > kMaxPolyDegree) return 0;  // programmer error; callers stay within the bound
   // Critical points split (a, b) into stretches where p is monotone.
-  double dc[3];
+  double dc[kMaxPolyDegree];
   for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
-  double crit[3];
+  double crit[kMaxPolyDegree];
   const int nc = poly_roots_in(dc, degree - 1, a, b, crit);
-  double pts[5];
+  double pts[kMaxPolyDegree + 2];
   int np = 0;
   pts[np++] = a;
   for (int i = 0; i < nc; ++i) pts[np++] = crit[i];
@@ -76,6 +77,65 @@ int poly_roots_in(const double* c, int degree, double a, double b, double* out) 
     }
   }
   return nr;
+}
+
+std::pair<double, double> poly_extreme(const double* c, int degree, double a, double b, int side) {
+  double best_s = a;
+  double best = poly_eval(c, degree, a);
+  auto consider = [&](double s) {
+    const double v = poly_eval(c, degree, s);
+    if (side * (v - best) > 0) {
+      best = v;
+      best_s = s;
+    }
+  };
+  consider(b);
+  if (degree >= 2 && degree <= kMaxPolyDegree) {
+    double dc[kMaxPolyDegree];
+    for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
+    double r[kMaxPolyDegree];
+    const int n = poly_roots_in(dc, degree - 1, a, b, r);
+    for (int k = 0; k < n; ++k) consider(r[k]);
+  }
+  return {best, best_s};
+}
+
+namespace {
+// ratio[n][i][k] = C(i, k) / C(n, k) for k <= i <= n <= kMaxPolyDegree.
+struct BernsteinTable {
+  double ratio[kMaxPolyDegree + 1][kMaxPolyDegree + 1][kMaxPolyDegree + 1] = {};
+  BernsteinTable() {
+    double binom[kMaxPolyDegree + 1][kMaxPolyDegree + 1] = {};
+    for (int n = 0; n <= kMaxPolyDegree; ++n) {
+      binom[n][0] = binom[n][n] = 1.0;
+      for (int k = 1; k < n; ++k) binom[n][k] = binom[n - 1][k - 1] + binom[n - 1][k];
+    }
+    for (int n = 0; n <= kMaxPolyDegree; ++n)
+      for (int i = 0; i <= n; ++i)
+        for (int k = 0; k <= i; ++k) ratio[n][i][k] = binom[i][k] / binom[n][k];
+  }
+};
+const BernsteinTable& bernstein_table() {
+  static const BernsteinTable t;
+  return t;
+}
+}  // namespace
+
+void bernstein(const double* c, int degree, double* b) {
+  const auto& r = bernstein_table().ratio[degree];
+  for (int i = 0; i <= degree; ++i) {
+    double s = 0.0;
+    for (int k = 0; k <= i; ++k) s += r[i][k] * c[k];
+    b[i] = s;
+  }
+}
+
+double bernstein_max_abs(const double* c, int degree) {
+  double b[kMaxPolyDegree + 1];
+  bernstein(c, degree, b);
+  double m = 0.0;
+  for (int i = 0; i <= degree; ++i) m = std::max(m, std::abs(b[i]));
+  return m;
 }
 
 bool solve_tridiagonal(std::vector<double>& dl, std::vector<double>& d, std::vector<double>& du,

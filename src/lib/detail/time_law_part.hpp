@@ -16,6 +16,12 @@ struct TimeLawPart {
   /// Times strictly inside (t0, t1) where d3u/dt3 may jump, increasing, appended to out.
   virtual void inner_breaks(std::vector<double>& out) const { (void)out; }
   [[nodiscard]] virtual bool moving() const { return true; }
+  /// u(ta + sigma (tb - ta)) = sum_k c[k] sigma^k, sigma in [0, 1], for [ta, tb] inside [t0, t1]
+  /// between two inner breaks; returns the degree (<= 5; c has room for 6), -1 if not polynomial.
+  virtual int poly_on(double ta, double tb, double* c) const {
+    (void)ta, (void)tb, (void)c;
+    return -1;
+  }
 };
 
 /// The TOPP-RA law of one segment before smoothing, in local time s in [0, T0]: grid points
@@ -41,6 +47,7 @@ struct SmoothPart final : TimeLawPart {
   double tau = 0, k = 1;
   void eval_local(double t, double* out) const override;
   void inner_breaks(std::vector<double>& out) const override;
+  int poly_on(double ta, double tb, double* c) const override;
   /// Unstretched: out[0..3] = u - ua and its derivatives at local time s.
   void smoothed(double s, double* out) const;
 };
