@@ -30,6 +30,7 @@
 
 #include "app.hpp"
 #include "document.hpp"
+#include "present.hpp"
 #include "selftest.hpp"
 #include "style.hpp"
 
@@ -52,7 +53,7 @@ struct Args {
   std::string scene, screenshot, tab, colour = "limit";
   int frames = -1, width = 1280, height = 800;
   double time_s = -1.0;
-  bool timing = false, check_pixels = false, edit_each_frame = false, selftest_ui = false, spin = false;
+  bool timing = false, full_redraw = false, check_pixels = false, edit_each_frame = false, selftest_ui = false, spin = false;
 };
 
 const char* kUsage =
@@ -68,6 +69,7 @@ const char* kUsage =
     "  --timing               print mean and max frame time at exit\n"
     "  --check-pixels         with --screenshot: fail (exit 3) unless the PNG shows a path and plots\n"
     "  --selftest-ui          with --screenshot: script mouse and keys (drag, undo, scrub, play, add, delete)\n"
+    "  --full-redraw          draw every pixel every frame (default: only what changed since the last frame)\n"
     "  --spin                 measurement: orbit the 3D view and play, every frame\n"
     "  --edit-each-frame      measurement: move the middle waypoint a little every frame (re-plans each frame)\n"
     "  --help, --version\n";
@@ -182,6 +184,8 @@ int main(int argc, char** argv) {
       a.colour = v;
     } else if (s == "--timing") {
       a.timing = true;
+    } else if (s == "--full-redraw") {
+      a.full_redraw = true;
     } else if (s == "--spin") {
       a.spin = true;
     } else if (s == "--selftest-ui") {
@@ -251,6 +255,11 @@ int main(int argc, char** argv) {
   opt.spin = a.spin;
   App app(doc, opt);
 
+  Presenter presenter;
+  presenter.init();
+  presenter.set_full(a.full_redraw);
+  std::vector<double> redrawn;
+
   using Clock = std::chrono::steady_clock;
   std::vector<double> frame_ms, ui_ms, cpu_ms;
   auto cpu_now = [] {  // CPU time of the whole process (all threads, llvmpipe's included) [ms]
@@ -286,23 +295,13 @@ int main(int argc, char** argv) {
     ImGui::Render();
     int fw = 0, fh = 0;
     glfwGetFramebufferSize(win, &fw, &fh);
-    glViewport(0, 0, fw, fh);
-    glClearColor(col::kPanelBg[0], col::kPanelBg[1], col::kPanelBg[2], 1.0f);
-    glClear(GL_COLOR_BUFFER_BIT);
-    {  // solid backdrops: scissored clears (cheap) instead of blended quads
+    {  // solid backdrops are scissored clears (cheap) instead of blended quads; only what changed is drawn again
       int ww = 0, wh = 0;
       glfwGetWindowSize(win, &ww, &wh);
       const float bx = ww > 0 ? float(fw) / float(ww) : 1.0f, by = wh > 0 ? float(fh) / float(wh) : 1.0f;
-      glEnable(GL_SCISSOR_TEST);
-      for (const auto& b : app.backdrops()) {
-        const int x0 = int(b.rect.min.x * bx), x1 = int(b.rect.max.x * bx), y0 = int(b.rect.min.y * by), y1 = int(b.rect.max.y * by);
-        glScissor(x0, fh - y1, x1 - x0, y1 - y0);
-        glClearColor(float(b.colour & 0xff) / 255.0f, float((b.colour >> 8) & 0xff) / 255.0f, float((b.colour >> 16) & 0xff) / 255.0f, 1.0f);
-        glClear(GL_COLOR_BUFFER_BIT);
-      }
-      glDisable(GL_SCISSOR_TEST);
+      presenter.render(ImGui::GetDrawData(), app.backdrops(), col::kPanelBg, fw, fh, bx, by);
+      redrawn.push_back(presenter.redrawn_fraction());
     }
-    ImGui_ImplOpenGL3_RenderDrawData(ImGui::GetDrawData());
     if (a.timing) glFinish();
     draw_calls = 0;
     for (int l = 0; l < ImGui::GetDrawData()->CmdListsCount; ++l) draw_calls += ImGui::GetDrawData()->CmdLists[l]->CmdBuffer.Size;
@@ -338,19 +337,21 @@ int main(int argc, char** argv) {
   if (a.timing && !frame_ms.empty()) {
     // The first frames build fonts and sample the plan: reported apart.
     const std::size_t skip = std::min<std::size_t>(frame_ms.size() - 1, 2);
-    double sum = 0, mx = 0, usum = 0, csum = 0;
+    double sum = 0, mx = 0, usum = 0, csum = 0, rsum = 0;
     for (std::size_t i = skip; i < frame_ms.size(); ++i) {
       sum += frame_ms[i];
       csum += cpu_ms[i];
       usum += ui_ms[i];
+      rsum += redrawn[i];
       mx = std::max(mx, frame_ms[i]);
     }
     const double k = double(frame_ms.size() - skip);
     std::printf("frame time over %zu frames (first %zu excluded, first %.1f ms): mean %.2f ms, max %.2f ms; UI build mean %.2f ms; "
-                "process CPU per frame (all threads) %.2f ms; %d vertices, %d draw calls, %s\n",
-                frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k, csum / k, io.MetricsRenderVertices,
+                "process CPU per frame (all threads) %.2f ms; %.1f%% of the pixels redrawn per frame; %d vertices, %d draw calls, %s\n",
+                frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k, csum / k, 100.0 * rsum / k, io.MetricsRenderVertices,
                 draw_calls, app.stats().c_str());
   }
+  presenter.release();
   ImGui_ImplOpenGL3_Shutdown();
   ImGui_ImplGlfw_Shutdown();
   ImGui::DestroyContext();

@@ -193,9 +193,12 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
   thin_polyline(line_, 0.25f);
   if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);  // integer widths: textured AA lines, fewer vertices
 
-  // Playhead.
+  // Playhead: a draw command of its own, clipped to a narrow strip, so that moving it changes
+  // only that strip of the frame (the rest of the cell is not drawn again, see present.hpp).
   const float xp = plot_x(t_, r);
+  dl->PushClipRect({std::floor(xp) - 2.0f, r.min.y}, {std::floor(xp) + 3.0f, r.max.y}, true);
   dl->AddLine({xp, r.min.y}, {xp, r.max.y}, col::kPlayhead, 1.0f);
+  dl->PopClipRect();
 
   // Labels: the exact peak from the report, the scale, off-scale limits. Values far below the
   // axis's range are shown as 0 (display only).
