@@ -38,7 +38,8 @@ App::App(Document& doc, AppOptions options) : doc_(doc), opt_(std::move(options)
 }
 
 std::string App::stats() const {
-  return std::to_string(samples_.n) + " samples, " + std::to_string(drawn_segments_) + " path segments drawn, " +
+  return std::to_string(samples_.n) + " samples, " + std::to_string(pre_idx_.size()) + " kept in 3D, " +
+         std::to_string(drawn_segments_) + " path segments drawn, " +
          std::to_string(drawn_handles_) + " handles drawn";
 }
 

@@ -56,7 +56,7 @@ class App {
   [[nodiscard]] std::string stats() const;
   // For the scripted UI self-test (--selftest-ui): where things were drawn last frame.
   /// Screen position of waypoint k's handle (last frame), or (-1, -1).
-  [[nodiscard]] ImVec2 handle_pos(std::size_t k) const { return k < handle_proj_.size() ? handle_proj_[k] : ImVec2(-1, -1); }
+  [[nodiscard]] ImVec2 handle_pos(std::size_t k) const;
   [[nodiscard]] Rect first_plot_cell() const { return first_cell_; }
   [[nodiscard]] double playhead() const { return t_; }
   [[nodiscard]] double plot_t0() const { return tv0_; }
@@ -147,13 +147,29 @@ class App {
   std::vector<float> speed_;        // |velocity| of the mapped axes per sample
   std::size_t drawn_segments_ = 0;  // path segments drawn after thinning (last frame)
   std::size_t drawn_handles_ = 0;   // waypoint handles drawn (last frame)
-  std::vector<std::uint32_t> occupied_;
-  std::vector<ImVec2> handle_proj_;  // projected waypoints
   std::vector<std::size_t> handle_list_;  // waypoints drawn after screen-space thinning
-  std::vector<float> handle_key_;    // what handle_proj_ and handle_list_ were computed for
+  std::vector<float> handle_key_;    // what handle_list_ was computed for
   bool handles_dense_ = false;
+  std::vector<std::uint32_t> occupied_;  // screen cells already holding a handle
+  void update_handle_coords();
+  void preselect_handles();
   std::vector<float> handle_c3_;    // normalised waypoint coordinates, 3 per waypoint
-  std::vector<float> handle_ckey_;  // what handle_c3_ was computed for  // screen cells already holding a handle (per frame)
+  std::vector<float> handle_ckey_;  // what handle_c3_ was computed for (with handle_c3_edits_)
+  std::uint64_t handle_c3_edits_ = ~std::uint64_t(0);
+  std::uint64_t handle_c3_version_ = 0;
+  static constexpr float kHandleReach = 4.0f;  // px: a waypoint is this near its pre-selected one
+  static constexpr std::size_t kBlock = 32;
+  struct Block {
+    float c[3] = {0, 0, 0};
+    float r = 0;
+  };
+  std::vector<float> sel_key_;               // what the pre-selection was computed for
+  std::vector<std::uint32_t> sel_;           // pre-selected waypoints (view independent)
+  std::vector<std::uint32_t> sel_count_;     // waypoints each one stands for
+  std::vector<std::uint32_t> member_start_, members_;  // those waypoints, per pre-selected one
+  std::vector<Block> blocks_;                // runs of kBlock pre-selected waypoints
+  std::vector<unsigned char> block_live_;    // runs that can reach the view (last projection)
+  std::vector<ImVec2> sel_proj_;             // pre-selected waypoints projected (live runs)
   float speed_max_ = 0.0f;
   std::uint64_t speed_generation_ = ~std::uint64_t(0);
   int speed_map_[3] = {-9, -9, -9};
@@ -167,6 +183,13 @@ class App {
   std::vector<ImVec2> line_;  // polyline scratch
   std::vector<std::size_t> col_index_;  // first sample index of each pixel column (envelope mode)
   std::vector<double> zoom_vals_;       // exact values per pixel column when zoomed in: [(j * axes + a) * 4 + d]
+  struct Envelope {  // min, max and last sample value per pixel column of one plot, for one time range
+    std::uint64_t generation = ~std::uint64_t(0);
+    double t0 = 0.0, t1 = 0.0;
+    int cols = 0;
+    std::vector<float> lo, hi, last;
+  };
+  std::vector<Envelope> envelopes_;     // per derivative and axis: [d * axes + a]
   bool zoomed_ = false;
   Rect first_cell_;
   int plot_cols_ = 0;

@@ -157,13 +157,27 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
   if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);
       line_.clear();
     };
+    // The min..max per column depends only on the samples and the time range: kept until they change.
+    Envelope& env = envelopes_[std::size_t(d) * samples_.axes + axis];
+    if (env.generation != seen_generation_ || env.t0 != tv0_ || env.t1 != tv1_ || env.cols != cols) {
+      env.generation = seen_generation_;
+      env.t0 = tv0_;
+      env.t1 = tv1_;
+      env.cols = cols;
+      env.lo.resize(std::size_t(cols));
+      env.hi.resize(std::size_t(cols));
+      env.last.resize(std::size_t(cols));
+      for (int j = 0; j < cols; ++j) {
+        const std::size_t i0 = col_index_[std::size_t(j)], i1 = std::max(col_index_[std::size_t(j) + 1], i0 + 1);
+        samples_.tree[d][axis].query(i0, i1, env.lo[std::size_t(j)], env.hi[std::size_t(j)]);
+        env.last[std::size_t(j)] = sv[std::min(i1, samples_.n) - 1];
+      }
+    }
     for (int j = 0; j < cols; ++j) {
-      const std::size_t i0 = col_index_[std::size_t(j)], i1 = std::max(col_index_[std::size_t(j) + 1], i0 + 1);
-      float a = 0, b = 0;
-      samples_.tree[d][axis].query(i0, i1, a, b);
+      float a = env.lo[std::size_t(j)], b = env.hi[std::size_t(j)];
       a = std::min(a, prev_last);
       b = std::max(b, prev_last);
-      const float last = sv[std::min(i1, samples_.n) - 1];
+      const float last = env.last[std::size_t(j)];
       const float x = r.min.x + (float(j) + 0.5f) * w / float(cols);
       const float ya = Y(a), yb = Y(b);
       if (ya - yb <= 3.0f) {
@@ -302,6 +316,7 @@ void App::plots_panel(const ImVec2& pos, const ImVec2& size) {
         for (int d = 0; d < 4; ++d) zoom_vals_[(std::size_t(j) * axes + a) * 4 + std::size_t(d)] = out(Index(a), d);
     }
   } else {
+    envelopes_.resize(4 * axes);
     col_index_.resize(std::size_t(plot_cols_) + 1);
     for (int j = 0; j <= plot_cols_; ++j) {
       const double t = tv0_ + (tv1_ - tv0_) * double(j) / double(plot_cols_);

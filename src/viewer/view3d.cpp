@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cmath>
 #include <string>
+#include <unordered_map>
 
 #include "app.hpp"
 #include "format.hpp"
@@ -313,62 +314,165 @@ void App::thin_path() {
   drawn_segments_ = segs.size();
 }
 
-void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
+ImVec2 App::handle_pos(std::size_t k) const {
+  if (3 * k + 2 >= handle_c3_.size()) return {-1, -1};
+  const float* c = &handle_c3_[3 * k];
+  return {xf_o_.x + xf_[0][0] * c[0] + xf_[0][1] * c[1] + xf_[0][2] * c[2], xf_o_.y + xf_[1][0] * c[0] + xf_[1][1] * c[1] + xf_[1][2] * c[2]};
+}
+
+void App::update_handle_coords() {
   const Scene& s = doc_.scene();
   const Planned* p = doc_.shown();
   const std::size_t n = s.waypoints.size();
-  const ImVec2 mouse = ImGui::GetMousePos();
+  // Normalised coordinates change only with the scene, the mapping and (when time is mapped)
+  // the plan's waypoint times.
+  std::vector<float> ckey;
+  for (int k = 0; k < 3; ++k) {
+    ckey.push_back(float(map_[k]));
+    ckey.push_back(float(centre_[k]));
+    ckey.push_back(float(half_[k]));
+  }
+  ckey.push_back(float(n));
+  if (map_[0] == kMapTime || map_[1] == kMapTime || map_[2] == kMapTime) ckey.push_back(float(seen_generation_));
+  if (ckey == handle_ckey_ && handle_c3_edits_ == doc_.edits() && handle_c3_.size() == 3 * n) return;
+  handle_ckey_ = ckey;
+  handle_c3_edits_ = doc_.edits();
+  ++handle_c3_version_;
+  handle_c3_.resize(3 * n);
   const bool times_ok = p && std::size_t(p->plan.waypoint_times.size()) == n;
+  double c[3];
+  for (std::size_t k = 0; k < n; ++k) {
+    const Waypoint& w = s.waypoints[k];
+    const double t = times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0);
+    coords_of_point(w.q, t, c);
+    for (int j = 0; j < 3; ++j) handle_c3_[3 * k + std::size_t(j)] = float(c[j]);
+  }
+}
+
+void App::preselect_handles() {
+  // View-independent pre-selection: an orthographic view maps a 3D distance d to at most
+  // d * scale pixels, so a waypoint within r = kReach / (the largest scale of this zoom step) of
+  // a chosen one is drawn within kReach px of it whatever the orientation. Greedy in waypoint
+  // order over a 3D grid of cells r wide; every other waypoint joins the chosen one it is near.
+  // The chosen ones are grouped in runs of kBlock with a bounding sphere, so a frame projects
+  // only runs that can reach the view.
+  const float step = std::floor(std::log2(std::max(scale_, 1e-6f)) * 2.0f);
+  const std::vector<float> key = {float(handle_c3_version_), step};
+  if (key == sel_key_) return;
+  sel_key_ = key;
+  const std::size_t n = handle_c3_.size() / 3;
+  const float r = kHandleReach / std::exp2((step + 1.0f) * 0.5f), r2 = r * r;
+  sel_.clear();
+  sel_count_.clear();
+  std::vector<std::uint32_t> owner(n, 0);
+  std::unordered_map<std::uint64_t, std::vector<std::uint32_t>> grid;  // cell -> chosen (positions in sel_)
+  auto cell = [&](const float* c, int dx, int dy, int dz) {
+    const auto q = [&](float v, int d) { return std::uint64_t(std::int64_t(std::floor(v / r)) + d + (1 << 20)) & 0x1fffff; };
+    return q(c[0], dx) << 42 | q(c[1], dy) << 21 | q(c[2], dz);
+  };
+  auto choose = [&](std::size_t k) {
+    owner[k] = std::uint32_t(sel_.size());
+    grid[cell(&handle_c3_[3 * k], 0, 0, 0)].push_back(std::uint32_t(sel_.size()));
+    sel_.push_back(std::uint32_t(k));
+    sel_count_.push_back(1);
+  };
+  if (n > 0) choose(0);
+  if (n > 1) choose(n - 1);
+  for (std::size_t k = 1; k + 1 < n; ++k) {
+    const float* c = &handle_c3_[3 * k];
+    int near = -1;
+    for (int dz = -1; dz <= 1 && near < 0; ++dz)
+      for (int dy = -1; dy <= 1 && near < 0; ++dy)
+        for (int dx = -1; dx <= 1 && near < 0; ++dx) {
+          const auto it = grid.find(cell(c, dx, dy, dz));
+          if (it == grid.end()) continue;
+          for (std::uint32_t si : it->second) {
+            const float* o = &handle_c3_[3 * sel_[si]];
+            if ((c[0] - o[0]) * (c[0] - o[0]) + (c[1] - o[1]) * (c[1] - o[1]) + (c[2] - o[2]) * (c[2] - o[2]) <= r2) {
+              near = int(si);
+              break;
+            }
+          }
+        }
+    if (near >= 0) {
+      owner[k] = std::uint32_t(near);
+      ++sel_count_[std::size_t(near)];
+    } else {
+      choose(k);
+    }
+  }
+  // Members of each chosen waypoint (for the hover search), in waypoint order.
+  member_start_.assign(sel_.size() + 1, 0);
+  for (std::size_t k = 0; k < n; ++k) ++member_start_[owner[k] + 1];
+  for (std::size_t i = 0; i < sel_.size(); ++i) member_start_[i + 1] += member_start_[i];
+  members_.resize(n);
+  std::vector<std::uint32_t> fill(member_start_.begin(), member_start_.end() - 1);
+  for (std::size_t k = 0; k < n; ++k) members_[fill[owner[k]]++] = std::uint32_t(k);
+  // Runs of chosen waypoints with bounding spheres (centre: the box centre).
+  blocks_.clear();
+  for (std::size_t b = 0; b < sel_.size(); b += kBlock) {
+    const std::size_t e = std::min(sel_.size(), b + kBlock);
+    float lo[3] = {1e30f, 1e30f, 1e30f}, hi[3] = {-1e30f, -1e30f, -1e30f};
+    for (std::size_t i = b; i < e; ++i)
+      for (int j = 0; j < 3; ++j) {
+        lo[j] = std::min(lo[j], handle_c3_[3 * sel_[i] + std::size_t(j)]);
+        hi[j] = std::max(hi[j], handle_c3_[3 * sel_[i] + std::size_t(j)]);
+      }
+    Block blk;
+    for (int j = 0; j < 3; ++j) blk.c[j] = 0.5f * (lo[j] + hi[j]);
+    float rad2 = 0.0f;
+    for (std::size_t i = b; i < e; ++i) {
+      const float* c = &handle_c3_[3 * sel_[i]];
+      rad2 = std::max(rad2, (c[0] - blk.c[0]) * (c[0] - blk.c[0]) + (c[1] - blk.c[1]) * (c[1] - blk.c[1]) + (c[2] - blk.c[2]) * (c[2] - blk.c[2]));
+    }
+    blk.r = std::sqrt(rad2);
+    blocks_.push_back(blk);
+  }
+}
+
+void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
+  const Scene& s = doc_.scene();
+  const std::size_t n = s.waypoints.size();
+  const ImVec2 mouse = ImGui::GetMousePos();
   const Rect& vr = view_rect_;
   auto in_view = [&](ImVec2 pt) { return pt.x >= vr.min.x && pt.x < vr.max.x && pt.y >= vr.min.y && pt.y < vr.max.y; };
+  auto proj = [&](const float* c) {
+    return ImVec2{xf_o_.x + xf_[0][0] * c[0] + xf_[0][1] * c[1] + xf_[0][2] * c[2], xf_o_.y + xf_[1][0] * c[0] + xf_[1][1] * c[1] + xf_[1][2] * c[2]};
+  };
+  update_handle_coords();
+  preselect_handles();
 
-  // Project every waypoint and choose which to draw: cached while the scene, the mapping and
-  // the camera stay the same. Screen-space thinning: a handle is drawn only where no other
+  // Which handles to draw: cached while the waypoints, the mapping and the camera stay the same.
+  // Screen-space thinning of the pre-selected waypoints: a handle is drawn only where no other
   // handle is within a cell's reach; crowded views (many waypoints in view) get small dots.
   std::vector<float> key(path_key_.begin() + 1, path_key_.end());
-  key.push_back(float(doc_.edits()));
-  key.push_back(float(n));
+  key.push_back(float(handle_c3_version_));
+  key.push_back(sel_key_[1]);
   key.push_back(vr.min.x);
   key.push_back(vr.min.y);
   key.push_back(vr.max.x);
   key.push_back(vr.max.y);
   if (key != handle_key_) {
     handle_key_ = key;
-    handle_proj_.resize(n);
-    // Normalised coordinates change only with the scene and the mapping; projecting them is
-    // then six multiply-adds per waypoint.
-    std::vector<float> ckey;
-    ckey.push_back(float(doc_.edits()));
-    for (int k = 0; k < 3; ++k) {
-      ckey.push_back(float(map_[k]));
-      ckey.push_back(float(centre_[k]));
-      ckey.push_back(float(half_[k]));
-    }
-    ckey.push_back(float(n));
-    if (ckey != handle_ckey_) {
-      handle_ckey_ = ckey;
-      handle_c3_.resize(3 * n);
-      double c[3];
-      for (std::size_t k = 0; k < n; ++k) {
-        const Waypoint& w = s.waypoints[k];
-        const double t = times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0);
-        coords_of_point(w.q, t, c);
-        for (int j = 0; j < 3; ++j) handle_c3_[3 * k + std::size_t(j)] = float(c[j]);
+    sel_proj_.resize(sel_.size());
+    block_live_.assign(blocks_.size(), 0);
+    std::size_t visible = 0;  // waypoints in view, counted through the ones they joined
+    for (std::size_t b = 0; b < blocks_.size(); ++b) {
+      const ImVec2 pc = proj(blocks_[b].c);
+      const float rr = blocks_[b].r * scale_ + kHandleReach + 12.0f;  // reach of the run on screen, plus a handle
+      if (pc.x + rr < vr.min.x || pc.x - rr > vr.max.x || pc.y + rr < vr.min.y || pc.y - rr > vr.max.y) continue;
+      block_live_[b] = 1;
+      for (std::size_t i = b * kBlock; i < std::min(sel_.size(), (b + 1) * kBlock); ++i) {
+        sel_proj_[i] = proj(&handle_c3_[3 * sel_[i]]);
+        if (in_view(sel_proj_[i])) visible += sel_count_[i];
       }
-    }
-    std::size_t visible = 0;
-    for (std::size_t k = 0; k < n; ++k) {
-      const float* c = &handle_c3_[3 * k];
-      handle_proj_[k] = {xf_o_.x + xf_[0][0] * c[0] + xf_[0][1] * c[1] + xf_[0][2] * c[2],
-                         xf_o_.y + xf_[1][0] * c[0] + xf_[1][1] * c[1] + xf_[1][2] * c[2]};
-      if (in_view(handle_proj_[k])) ++visible;
     }
     handles_dense_ = visible > 300;
     // A grid of cells D / sqrt(2) wide holds at most one drawn handle each; a new handle is drawn
     // when no drawn handle within 2 cells is closer than D.
     const float dmin = handles_dense_ ? 12.0f : 18.0f, cell = dmin / 1.41421356f;
     const int gw = std::max(1, int((vr.max.x - vr.min.x) / cell) + 1), gh = std::max(1, int((vr.max.y - vr.min.y) / cell) + 1);
-    occupied_.assign(std::size_t(gw) * std::size_t(gh), 0u);  // index + 1 of the handle in the cell
+    occupied_.assign(std::size_t(gw) * std::size_t(gh), 0u);  // position in sel_ + 1 of the handle in the cell
     auto cell_of = [&](ImVec2 pt, int& cx, int& cy) {
       cx = std::clamp(int((pt.x - vr.min.x) / cell), 0, gw - 1);
       cy = std::clamp(int((pt.y - vr.min.y) / cell), 0, gh - 1);
@@ -380,42 +484,56 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
       for (int y = std::max(0, cy - 2); y <= std::min(gh - 1, cy + 2); ++y)
         for (int x = std::max(0, cx - 2); x <= std::min(gw - 1, cx + 2); ++x) {
           const std::uint32_t o = occupied_[std::size_t(y * gw + x)];
-          if (o && dist2(handle_proj_[o - 1], pt) < dmin * dmin) return false;
+          if (o && dist2(sel_proj_[o - 1], pt) < dmin * dmin) return false;
         }
       return true;
     };
-    auto take = [&](std::size_t k) {
+    auto take = [&](std::size_t i) {
       int cx = 0, cy = 0;
-      cell_of(handle_proj_[k], cx, cy);
-      occupied_[std::size_t(cy * gw + cx)] = std::uint32_t(k + 1);
+      cell_of(sel_proj_[i], cx, cy);
+      occupied_[std::size_t(cy * gw + cx)] = std::uint32_t(i + 1);
     };
     handle_list_.clear();
-    if (n > 0 && in_view(handle_proj_[0])) take(0);
-    if (n > 1 && in_view(handle_proj_[n - 1]) && free_at(handle_proj_[n - 1])) take(n - 1);
-    for (std::size_t k = 1; k + 1 < n; ++k) {
-      const ImVec2 pt = handle_proj_[k];
+    // sel_[0] is the first waypoint, sel_[1] the last.
+    if (!sel_.empty() && block_live_[0] && in_view(sel_proj_[0])) take(0);
+    if (sel_.size() > 1 && block_live_[0] && in_view(sel_proj_[1]) && free_at(sel_proj_[1])) take(1);
+    for (std::size_t i = 2; i < sel_.size(); ++i) {
+      if (!block_live_[i / kBlock]) continue;
+      const ImVec2 pt = sel_proj_[i];
       if (!in_view(pt) || !free_at(pt)) continue;
-      take(k);
-      handle_list_.push_back(k);
+      take(i);
+      handle_list_.push_back(sel_[i]);
     }
   }
 
-  // The waypoint under the mouse (any waypoint, drawn or not).
+  // The waypoint under the mouse (any waypoint, drawn or not): every waypoint is within
+  // kHandleReach px of the pre-selected one it joined, so only those near the mouse are searched.
   float best = 9.0f * 9.0f;
   int hover = -1;
   if (hovered_canvas) {
-    for (std::size_t k = 0; k < n; ++k) {
-      const float d2m = dist2(handle_proj_[k], mouse);
-      if (d2m < best) {
-        best = d2m;
-        hover = int(k);
+    const float reach = 9.0f + kHandleReach;
+    for (std::size_t b = 0; b < blocks_.size(); ++b) {
+      if (!block_live_[b]) continue;
+      const ImVec2 pc = proj(blocks_[b].c);
+      const float rr = blocks_[b].r * scale_ + reach;
+      if (dist2(pc, mouse) > rr * rr) continue;
+      for (std::size_t i = b * kBlock; i < std::min(sel_.size(), (b + 1) * kBlock); ++i) {
+        if (dist2(sel_proj_[i], mouse) > reach * reach) continue;
+        for (std::uint32_t m = member_start_[i]; m < member_start_[i + 1]; ++m) {
+          const std::uint32_t k = members_[m];
+          const float d2m = dist2(proj(&handle_c3_[3 * k]), mouse);
+          if (d2m < best || (d2m == best && int(k) < hover)) {
+            best = d2m;
+            hover = int(k);
+          }
+        }
       }
     }
   }
   if (drag_wp_ < 0) hover_wp_ = hover;
   drawn_handles_ = 0;
   auto draw_one = [&](std::size_t k, bool numbered) {
-    const ImVec2 pt = handle_proj_[k];
+    const ImVec2 pt = handle_pos(k);
     const Waypoint& w = s.waypoints[k];
     ++drawn_handles_;
     if (!numbered) {
@@ -448,7 +566,7 @@ void App::draw_handles(ImDrawList* dl, bool hovered_canvas) {
   for (std::size_t k : handle_list_)
     if (!special(k)) draw_one(k, !handles_dense_);
   for (int k : {0, int(n) - 1, selected_, drag_wp_, hover_wp_})
-    if (k >= 0 && std::size_t(k) < n && in_view(handle_proj_[std::size_t(k)])) draw_one(std::size_t(k), true);
+    if (k >= 0 && std::size_t(k) < n && in_view(handle_pos(std::size_t(k)))) draw_one(std::size_t(k), true);
 }
 
 void App::draw_pose(ImDrawList* dl) {
