@@ -5,13 +5,20 @@
 //   BM_export_jsonl/S       the same in JSON Lines
 //   BM_reconstruction/S     reconstruction_error (linear and cubic Hermite) at the same rate
 //   BM_verify_csv/S         verify_text on the CSV of the same move
+//   BM_double_to_chars/V    std::to_chars(first, last, double) per double (items are doubles)
+//   BM_double_shortest/V    the exporter's own formatter (detail/shortest_double) on the same doubles
+// V picks the doubles: 0 the values of the benchmark move (positions, velocities, accelerations
+// and times, as in the CSV), 1 random finite bit patterns.
 // S is the length of the move in seconds. The whole-process figure (1 hour, 8 axes, 1 kHz to a
 // file) is measured with /usr/bin/time -v on `c2path export`; see docs-export.md.
 // Run: build/tests/bench/c2path_bench --benchmark_filter='BM_export|BM_reconstruction|BM_verify'
 
 #include <benchmark/benchmark.h>
 
+#include <bit>
+#include <charconv>
 #include <cmath>
+#include <random>
 #include <map>
 #include <memory>
 #include <string>
@@ -20,6 +27,7 @@
 #include "c2path/scene_yaml.hpp"
 #include "c2path/timing.hpp"
 #include "c2path/verify.hpp"
+#include "../../src/lib/detail/shortest_double.hpp"
 
 namespace {
 
@@ -114,8 +122,62 @@ void BM_verify_csv(benchmark::State& state) {
   state.SetBytesProcessed(std::int64_t(state.iterations()) * std::int64_t(csv.size()));
 }
 
+// 65536 doubles: the numbers of the CSV of the 60 s move (every column of every 10th row), or
+// random finite bit patterns.
+const std::vector<double>& doubles(long which) {
+  static std::map<long, std::vector<double>> cache;
+  auto& v = cache[which];
+  if (v.empty()) {
+    if (which == 0) {
+      const auto& tr = *move(60).plan.trajectory;
+      Eigen::MatrixXd st(tr.axes(), 4);
+      for (std::size_t k = 0; v.size() < 65536; k += 10) {
+        const double t = double(k) / 1000.0;
+        tr.eval_all(std::min(t, tr.t_end()), st);
+        v.push_back(t);
+        for (int a = 0; a < kAxes; ++a)
+          for (int d = 0; d < 3; ++d) v.push_back(st(a, d));
+      }
+      v.resize(65536);
+    } else {
+      std::mt19937_64 rng(5);
+      while (v.size() < 65536) {
+        const double x = std::bit_cast<double>(rng());
+        if (std::isfinite(x)) v.push_back(x);
+      }
+    }
+  }
+  return v;
+}
+
+void BM_double_to_chars(benchmark::State& state) {
+  const auto& v = doubles(state.range(0));
+  char buf[64];
+  for (auto _ : state)
+    for (double x : v) {
+      char* e = std::to_chars(buf, buf + sizeof buf, x).ptr;
+      benchmark::DoNotOptimize(e);
+      benchmark::ClobberMemory();
+    }
+  state.SetItemsProcessed(std::int64_t(state.iterations()) * std::int64_t(v.size()));
+}
+
+void BM_double_shortest(benchmark::State& state) {
+  const auto& v = doubles(state.range(0));
+  char buf[64];
+  for (auto _ : state)
+    for (double x : v) {
+      char* e = c2path::detail::write_shortest(buf, x);
+      benchmark::DoNotOptimize(e);
+      benchmark::ClobberMemory();
+    }
+  state.SetItemsProcessed(std::int64_t(state.iterations()) * std::int64_t(v.size()));
+}
+
 }  // namespace
 
+BENCHMARK(BM_double_to_chars)->Arg(0)->Arg(1)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_double_shortest)->Arg(0)->Arg(1)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_export_eval)->Arg(60)->Unit(benchmark::kMillisecond);
 // Formatting and reconstruction run on worker threads: rates are per wall-clock second.
 BENCHMARK(BM_export_csv)->Arg(60)->Unit(benchmark::kMillisecond)->UseRealTime();

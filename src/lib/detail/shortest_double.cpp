@@ -128,16 +128,10 @@ struct Pow10Table {
         g.div_small(d);
       }
       // g = floor(10^x 2^(125 - fl)) + 1, in [2^125, 2^126].
-      const std::uint64_t lo63 = g.bits_at(0) & ((std::uint64_t(1) << 63) - 1);
-      const std::uint64_t hi63 = g.bits_at(63);
-      // + 1, carried into the high half when the low half overflows 63 bits
       Pow10Entry& out = e[std::size_t(x - kMinPow10)];
-      out.g_hi = hi63;
-      out.g_lo = lo63 + 1;
-      if (out.g_lo >> 63) {
-        out.g_lo = 0;
-        ++out.g_hi;
-      }
+      out.g_hi = g.bits_at(64);
+      out.g_lo = g.bits_at(0) + 1;
+      if (out.g_lo == 0) ++out.g_hi;  // the + 1 carried
     }
   }
 };
@@ -149,25 +143,39 @@ const Pow10Table& table() {
 
 // ---- Schubfach's decision --------------------------------------------------------------------
 
-// Approximately floor(g cp / 2^127) with the lowest bit set when the part below is non-zero
-// ("round to odd"), g = g1 2^63 + g0.
-inline std::uint64_t round_odd(std::uint64_t g1, std::uint64_t g0, std::uint64_t cp) {
-  const std::uint64_t x1 = std::uint64_t((u128)g0 * cp >> 64);
-  const u128 y = (u128)g1 * cp;
-  const std::uint64_t y0 = std::uint64_t(y), y1 = std::uint64_t(y >> 64);
-  const std::uint64_t z = (y0 >> 1) + x1;
+// The paper's scaled value: floor(g cp / 2^127), with the lowest bit set when bits 64..126 of
+// g cp are not all zero (a sticky bit for "not an integer"; the paper's rop, which looks at those
+// bits only: the error of g alone stays below 2^64 there). P is the 192-bit product g cp.
+struct U192 {
+  std::uint64_t w0, w1, w2;
+};
+inline U192 mul(const Pow10Entry& g, std::uint64_t cp) {
+  const u128 lo = (u128)g.g_lo * cp;
+  const u128 hi = (u128)g.g_hi * cp;
+  const u128 mid = (hi & ~std::uint64_t(0)) + (lo >> 64);
+  return {std::uint64_t(lo), std::uint64_t(mid), std::uint64_t(hi >> 64) + std::uint64_t(mid >> 64)};
+}
+inline U192 add(const U192& a, const U192& b) {
+  const u128 s0 = (u128)a.w0 + b.w0;
+  const u128 s1 = (u128)a.w1 + b.w1 + std::uint64_t(s0 >> 64);
+  return {std::uint64_t(s0), std::uint64_t(s1), a.w2 + b.w2 + std::uint64_t(s1 >> 64)};
+}
+inline U192 sub(const U192& a, const U192& b) {
+  const u128 d0 = (u128)a.w0 - b.w0;
+  const u128 d1 = (u128)a.w1 - b.w1 - std::uint64_t(d0 >> 127);
+  return {std::uint64_t(d0), std::uint64_t(d1), a.w2 - b.w2 - std::uint64_t(d1 >> 127)};
+}
+inline std::uint64_t round_odd(const U192& p) {
   constexpr std::uint64_t kMask63 = (std::uint64_t(1) << 63) - 1;
-  const std::uint64_t vbp = y1 + (z >> 63);
-  return vbp | (((z & kMask63) + kMask63) >> 63);
+  return ((p.w2 << 1) | (p.w1 >> 63)) | ((p.w1 & kMask63) != 0 ? 1 : 0);
 }
 
 constexpr int kQMin = -1074;
 constexpr std::uint64_t kCMin = std::uint64_t(1) << 52;
 
-inline ShortestDecimal to_decimal(int q, std::uint64_t c, const Pow10Table& tab) {
+[[gnu::always_inline]] inline ShortestDecimal to_decimal(int q, std::uint64_t c, const Pow10Table& tab) {
   const std::uint64_t out = c & 1;
   const std::uint64_t cb = c << 2;
-  const std::uint64_t cbr = cb + 2;
   std::uint64_t cbl;
   int k;
   if (c != kCMin || q == kQMin) {
@@ -179,25 +187,34 @@ inline ShortestDecimal to_decimal(int q, std::uint64_t c, const Pow10Table& tab)
   }
   const int h = q + floor_log2_pow10(-k) + 2;
   const Pow10Entry& g = tab.e[std::size_t(-k - kMinPow10)];
-  const std::uint64_t vb = round_odd(g.g_hi, g.g_lo, cb << h);
-  const std::uint64_t vbl = round_odd(g.g_hi, g.g_lo, cbl << h);
-  const std::uint64_t vbr = round_odd(g.g_hi, g.g_lo, cbr << h);
+  // g (cb << h) and g (cbl << h), g (cbr << h) = g (cb << h) -/+ g ((cb - cbl) << h) exactly: one
+  // product and shifts instead of three products.
+  const U192 pb = mul(g, cb << h);
+  const int s2 = h + 1;  // (cbr - cb) << h = g << (h + 1); 1 <= s2 < 64
+  const U192 d2 = {g.g_lo << s2, (g.g_hi << s2) | (g.g_lo >> (64 - s2)), g.g_hi >> (64 - s2)};
+  const U192 dl = cb - cbl == 2 ? d2 : U192{g.g_lo << h, (g.g_hi << h) | (g.g_lo >> (64 - h)), g.g_hi >> (64 - h)};
+  const std::uint64_t vb = round_odd(pb);
+  const std::uint64_t vbl = round_odd(sub(pb, dl));
+  const std::uint64_t vbr = round_odd(add(pb, d2));
   const std::uint64_t s = vb >> 2;
-  // The paper skips this step for s < 100 (Java's text wants two digits at least); the shortest
-  // text needs it there too: for subnormals, s may be that small.
-  {
-    const std::uint64_t sp10 = 10 * (s / 10);
-    const std::uint64_t tp10 = sp10 + 10;
-    const bool upin = vbl + out <= sp10 << 2;
-    const bool wpin = (tp10 << 2) + out <= vbr;
-    if (upin != wpin) return {upin ? sp10 : tp10, k};
-  }
+  // The paper skips the first step for s < 100 (Java's text wants two digits at least); the
+  // shortest text needs it there too: for subnormals, s may be that small. The steps are chosen
+  // without branches (they are hard to predict): the one multiple of 10^(k+1) in R if exactly one
+  // of sp10, tp10 is in R; else the one of s, t in R; else (both in R) the closer, the even on a tie.
+  const std::uint64_t sp10 = 10 * (s / 10);
+  const std::uint64_t tp10 = sp10 + 10;
+  const bool upin = vbl + out <= sp10 << 2;
+  const bool wpin = (tp10 << 2) + out <= vbr;
   const std::uint64_t t = s + 1;
   const bool uin = vbl + out <= s << 2;
   const bool win = (t << 2) + out <= vbr;
-  if (uin != win) return {uin ? s : t, k};
   const auto cmp = std::int64_t(vb - ((s + t) << 1));
-  return {cmp < 0 || (cmp == 0 && (s & 1) == 0) ? s : t, k};
+  const bool closer_s = cmp < 0 || (cmp == 0 && (s & 1) == 0);
+  const bool pick_s = uin != win ? uin : closer_s;
+  const std::uint64_t one = t - std::uint64_t(pick_s);
+  const std::uint64_t ten = tp10 - 10 * std::uint64_t(upin);
+  const std::uint64_t use_ten = -std::uint64_t(upin != wpin);
+  return {one ^ ((one ^ ten) & use_ten), k};
 }
 
 struct Decoded {
@@ -206,7 +223,7 @@ struct Decoded {
   std::uint64_t c;
 };
 
-inline Decoded decode(std::uint64_t bits, const Pow10Table& tab) {
+[[gnu::always_inline]] inline Decoded decode(std::uint64_t bits, const Pow10Table& tab) {
   const auto be = int((bits >> 52) & 0x7ff);
   const std::uint64_t t = bits & (kCMin - 1);
   if (be != 0) {
@@ -231,41 +248,20 @@ constexpr char kPairs[201] =
     "8081828384858687888990919293949596979899";
 
 inline void put2(char* p, std::uint32_t x) { std::memcpy(p, kPairs + 2 * x, 2); }
-inline void put8(char* p, std::uint32_t x) {  // exactly 8 digits, x < 10^8
-  const std::uint32_t a = x / 10000, b = x % 10000;
-  put2(p, a / 100);
-  put2(p + 2, a % 100);
-  put2(p + 4, b / 100);
-  put2(p + 6, b % 100);
-}
 
-constexpr std::uint64_t kPow10[20] = {1ULL,
-                                      10ULL,
-                                      100ULL,
-                                      1000ULL,
-                                      10000ULL,
-                                      100000ULL,
-                                      1000000ULL,
-                                      10000000ULL,
-                                      100000000ULL,
-                                      1000000000ULL,
-                                      10000000000ULL,
-                                      100000000000ULL,
-                                      1000000000000ULL,
-                                      10000000000000ULL,
-                                      100000000000000ULL,
-                                      1000000000000000ULL,
-                                      10000000000000000ULL,
-                                      100000000000000000ULL,
-                                      1000000000000000000ULL,
-                                      10000000000000000000ULL};
-
-// Number of decimal digits of f >= 1.
-inline int digit_count(std::uint64_t f) {
-  const int bits = 64 - std::countl_zero(f);
-  const int t = (bits * 1233) >> 12;  // floor(bits log10 2), at most one below the count
-  return t + (f >= kPow10[t] ? 1 : 0);
+// The 8 decimal digits of x < 10^8, one per byte, the first in the lowest byte (values 0..9):
+// the halves x / 10^4 and x % 10^4 in two 32-bit lanes, then each lane split by 100 into 16-bit
+// lanes and each of those by 10 into bytes, all lanes at once (floor(y / 100) = y 10486 >> 20 for
+// y < 10^4 and floor(y / 10) = y 103 >> 10 for y < 100; the tests reach every y through the
+// digits of every integer up to 10^6 and of random ones).
+inline std::uint64_t digit_bytes(std::uint64_t x) {
+  std::uint64_t v = (x / 10000) | ((x % 10000) << 32);
+  const std::uint64_t h = ((v * 10486) >> 20) & 0x0000007F0000007FULL;
+  v = h | ((v - h * 100) << 16);
+  const std::uint64_t t = ((v * 103) >> 10) & 0x000F000F000F000FULL;
+  return t | ((v - t * 10) << 8);
 }
+inline void store16(char* p, u128 x) { std::memcpy(p, &x, 16); }
 
 // The exact decimal digits of a whole double c 2^q (q >= 1, below 10^23) at p; returns the end.
 char* put_exact_integer(char* p, std::uint64_t c, int q) {
@@ -297,34 +293,32 @@ char* write_shortest(char* p, double v) noexcept {
   const Decoded dec = decode(bits, table());
   const std::uint64_t f = dec.d.digits;  // 1 <= f < 10^17
 
-  // The 17 digits of f with leading zeros, then the count of its digits and of its trailing zeros.
-  char tmp[48];
-  {
-    const std::uint64_t top = f / 10'000'000'000'000'000ULL;  // f / 10^16
-    const std::uint64_t rest = f % 10'000'000'000'000'000ULL;
-    tmp[0] = char('0' + top);
-    put8(tmp + 1, std::uint32_t(rest / 100'000'000ULL));
-    put8(tmp + 9, std::uint32_t(rest % 100'000'000ULL));
-  }
-  const int n17 = digit_count(f);
-  int tz;
-  {
-    constexpr std::uint64_t kZeros = 0x3030303030303030ULL;
-    std::uint64_t w;
-    std::memcpy(&w, tmp + 9, 8);
-    w ^= kZeros;
-    if (w) {
-      tz = std::countl_zero(w) >> 3;
-    } else {
-      std::memcpy(&w, tmp + 1, 8);
-      w ^= kZeros;
-      tz = w ? 8 + (std::countl_zero(w) >> 3) : 16;
-    }
-  }
-  const int n = n17 - tz;                       // significant digits
-  const int E = dec.d.exponent + n17 - 1;       // scientific exponent
-  const char* d = tmp + 17 - n17;               // the n digits
-  std::memset(tmp + 17, '0', 24);               // so fixed-size copies past the digits read zeros
+  // f = top 10^16 + mid 10^8 + lo; w1, w2: the 8 digits of mid and lo, one per byte, first digit
+  // in the lowest byte (so in memory order).
+  const std::uint64_t top = f / 10'000'000'000'000'000ULL;
+  const std::uint64_t rest = f - top * 10'000'000'000'000'000ULL;
+  const std::uint64_t mid = rest / 100'000'000ULL;
+  const std::uint64_t w1 = digit_bytes(mid), w2 = digit_bytes(rest - mid * 100'000'000ULL);
+  // Digits of f (n17), its trailing zeros (tz), then the first digit d0 and the next 16 (r, one
+  // per byte, zero bytes past the end).
+  int n17, tz;
+  if (w2) tz = std::countl_zero(w2) >> 3;
+  else if (w1) tz = 8 + (std::countl_zero(w1) >> 3);
+  else tz = 16;
+  // The 17 digits z[0..17) of f with leading zeros: top, then w1, then w2; `lead` zeros before the
+  // first significant digit z[lead]. Chosen without branches (17 or 16 digits is hard to predict).
+  const u128 x = w1 | (u128)w2 << 64;                                      // z[1..17)
+  const int lead_x = w1 ? std::countr_zero(w1) >> 3 : 8 + (std::countr_zero(w2 | (std::uint64_t(1) << 63)) >> 3);
+  const int lead = top ? 0 : 1 + lead_x;                                    // 0..16
+  const u128 z16 = (x << 8) | top;                                          // z[0..16)
+  const std::uint64_t d0 = lead < 16 ? std::uint64_t(z16 >> (8 * (lead & 15))) & 0xff : w2 >> 56;
+  const u128 r = lead < 16 ? x >> (8 * (lead & 15)) : u128(0);              // z[lead + 1 .. lead + 17)
+  n17 = 17 - lead;
+  const int n = n17 - tz;                  // significant digits
+  const int E = dec.d.exponent + n17 - 1;  // scientific exponent
+  constexpr std::uint64_t kAscii = 0x3030303030303030ULL;
+  const u128 r_ascii = r + ((u128)kAscii << 64 | kAscii);  // '0' added to every byte, no carries
+  const char c0 = char('0' + d0);
 
   const int absE = E < 0 ? -E : E;
   const int sci_len = n + (n > 1 ? 1 : 0) + 2 + (absE >= 100 ? 3 : 2);
@@ -334,24 +328,29 @@ char* write_shortest(char* p, double v) noexcept {
 
   if (fixed_len <= sci_len) {
     if (E < 0) {  // 0.000ddd (at most 3 zeros after the point: E >= -4 here)
-      std::memcpy(p, "0.00000", 8);
-      std::memcpy(p + 1 - E, d, 17);
+      std::memcpy(p, "0.000000", 8);
+      p[1 - E] = c0;
+      store16(p + 2 - E, r_ascii);
       return p + fixed_len;
     }
     if (n <= E + 1) {  // a whole number: its exact value
       if (dec.q >= 1) return put_exact_integer(p, dec.c, dec.q);
-      std::memcpy(p, d, 24);  // the digits, then the zeros that follow them in tmp
+      p[0] = c0;  // below 2^53: the digits, then the zeros that r holds past them (E + 1 <= 16)
+      store16(p + 1, r_ascii);
       return p + fixed_len;
     }
-    std::memcpy(p, d, 17);  // ddd.ddd
-    std::memcpy(p + E + 2, d + E + 1, 17);
+    // ddd.ddd with E + 1 digits before the point: all digits, then the ones after the point again,
+    // one place further right, and the point.
+    p[0] = c0;
+    store16(p + 1, r_ascii);
+    store16(p + E + 2, r_ascii >> (8 * E));
     p[E + 1] = '.';
     return p + fixed_len;
   }
-  p[0] = d[0];
+  p[0] = c0;
   if (n > 1) {
     p[1] = '.';
-    std::memcpy(p + 2, d + 1, 16);
+    store16(p + 2, r_ascii);
     p += n + 1;
   } else {
     p += 1;

@@ -32,7 +32,7 @@ struct ShortestDecimal {
 /// The shortest decimal of a finite, positive (non-zero) double.
 ShortestDecimal shortest_decimal(double v) noexcept;
 
-/// Entry of the power-of-ten table: g = g_hi * 2^63 + g_lo (each below 2^63) with
+/// Entry of the power-of-ten table: g = g_hi * 2^64 + g_lo with
 /// g = floor(10^e * 2^(125 - floor(e log2 10))) + 1, for e in [-292, 324] (exposed for the tests).
 struct Pow10Entry {
   std::uint64_t g_hi, g_lo;
