@@ -25,6 +25,9 @@ class Path {
   /// d^deriv q / du^deriv at u (deriv 0..3), out has size axes(). At a segment boundary the
   /// segment that starts there is used.
   virtual void eval(double u, int deriv, Eigen::Ref<Eigen::VectorXd> out) const = 0;
+  /// Position and derivatives 1..3 at u at once, the same values as eval(): out has shape
+  /// axes() x 4, column d = d^d q / du^d.
+  virtual void eval_all(double u, Eigen::Ref<Eigen::MatrixXd> out) const;
   /// Parameters where q(u) may lose smoothness (piece boundaries), increasing, both ends included.
   [[nodiscard]] virtual std::vector<double> breaks() const = 0;
   /// Segment boundaries (the rig comes to rest at each): increasing, both ends included.
@@ -43,6 +46,7 @@ class SplinePath final : public Path {
   [[nodiscard]] double u_begin() const override { return segments_.front().u_begin(); }
   [[nodiscard]] double u_end() const override { return segments_.back().u_end(); }
   void eval(double u, int deriv, Eigen::Ref<Eigen::VectorXd> out) const override;
+  void eval_all(double u, Eigen::Ref<Eigen::MatrixXd> out) const override;
   [[nodiscard]] std::vector<double> breaks() const override;
   [[nodiscard]] std::vector<double> stops() const override;
   [[nodiscard]] bool piecewise_cubic() const override { return true; }

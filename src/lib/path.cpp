@@ -25,6 +25,33 @@ void SplinePath::eval(double u, int deriv, Eigen::Ref<Eigen::VectorXd> out) cons
   segments_[segment_of(u)].eval(u, deriv, out);
 }
 
+void Path::eval_all(double u, Eigen::Ref<Eigen::MatrixXd> out) const {
+  Eigen::VectorXd v(axes());
+  for (int d = 0; d < 4; ++d) {
+    eval(u, d, v);
+    out.col(d) = v;
+  }
+}
+
+void SplinePath::eval_all(double u, Eigen::Ref<Eigen::MatrixXd> out) const {
+  const CubicSpline& s = segments_[segment_of(u)];
+  const Index m = s.axes();
+  if (u >= s.u_end()) {  // the end values as the end condition fixes them (CubicSpline::eval)
+    for (Index a = 0; a < m; ++a)
+      for (int d = 0; d < 4; ++d) out(a, d) = s.eval(u, a, d);
+    return;
+  }
+  const Index p = s.find_piece(u);
+  const double x = u - s.breaks()[std::size_t(p)];
+  for (Index a = 0; a < m; ++a) {
+    const double* c = s.coeffs(p, a);
+    out(a, 0) = cubic_eval(c, x, 0);
+    out(a, 1) = cubic_eval(c, x, 1);
+    out(a, 2) = cubic_eval(c, x, 2);
+    out(a, 3) = cubic_eval(c, x, 3);
+  }
+}
+
 std::vector<double> SplinePath::breaks() const {
   std::vector<double> b;
   for (const auto& s : segments_) {

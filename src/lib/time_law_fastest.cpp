@@ -19,6 +19,7 @@
 
 #include "c2path/error.hpp"
 #include "c2path/time_law.hpp"
+#include "detail/poly.hpp"
 #include "detail/time_law_part.hpp"
 
 namespace c2path {
@@ -50,14 +51,6 @@ struct Grid {
   [[nodiscard]] std::size_t points() const { return u.size(); }
 };
 
-[[maybe_unused]] void derivs(const Path& path, double u, bool left, Eigen::Ref<Eigen::VectorXd> d1, Eigen::Ref<Eigen::VectorXd> d2,
-            Eigen::Ref<Eigen::VectorXd> d3) {
-  const double ue = left ? std::nextafter(u, -kInf) : u;
-  path.eval(ue, 1, d1);
-  path.eval(ue, 2, d2);
-  path.eval(ue, 3, d3);
-}
-
 Grid make_grid(const Path& path, double ua, double ub, const std::vector<double>& all_breaks, const Eigen::VectorXd& norm,
                const FastestOptions& o) {
   const Index m = path.axes();
@@ -67,7 +60,8 @@ Grid make_grid(const Path& path, double ua, double ub, const std::vector<double>
     if (b > ua && b < ub) br.push_back(b);
   br.push_back(ub);
   Grid g;
-  Eigen::VectorXd d1(m), d2(m), d3(m), e1(m);
+  Eigen::VectorXd d1(m), e1(m);
+  Eigen::MatrixXd all(m, 4);
   const int factor = int(std::lround(o.grid_factor));
   std::vector<int> steps(br.size() - 1);
   long total = 0;
@@ -104,11 +98,12 @@ Grid make_grid(const Path& path, double ua, double ub, const std::vector<double>
   g.d2.resize(n * std::size_t(m));
   g.d3.resize(n * std::size_t(m));
   for (std::size_t i = 0; i < n; ++i) {
-    derivs(path, g.u[i], i + 1 == n, d1, d2, d3);
+    // The last point on the piece that ends there; every other on the piece that starts there.
+    path.eval_all(i + 1 == n ? std::nextafter(g.u[i], -kInf) : g.u[i], all);
     for (Index a = 0; a < m; ++a) {
-      g.d1[i * std::size_t(m) + std::size_t(a)] = d1[a];
-      g.d2[i * std::size_t(m) + std::size_t(a)] = d2[a];
-      g.d3[i * std::size_t(m) + std::size_t(a)] = d3[a];
+      g.d1[i * std::size_t(m) + std::size_t(a)] = all(a, 1);
+      g.d2[i * std::size_t(m) + std::size_t(a)] = all(a, 2);
+      g.d3[i * std::size_t(m) + std::size_t(a)] = all(a, 3);
     }
   }
   return g;
@@ -129,12 +124,16 @@ class Topp {
         r_[i * m_ + a] = lim_[a].acc / std::abs(b);
         s_[i * m_ + a] = -g_.d2[i * m_ + a] / b;
       }
+    // (J / |q_uuu|)^(2/3) is increasing in J / |q_uuu|: the smallest ratio gives the cap.
     jcap_.assign(g.points(), kInf);
-    for (std::size_t i = 0; i < g.points(); ++i)
+    for (std::size_t i = 0; i < g.points(); ++i) {
+      double ratio = kInf;
       for (std::size_t a = 0; a < m_; ++a) {
         const double d = std::abs(g_.d3[i * m_ + a]);
-        if (lim_[a].jerk < kInf && d > 0.0) jcap_[i] = std::min(jcap_[i], std::cbrt((lim_[a].jerk / d) * (lim_[a].jerk / d)));
+        if (lim_[a].jerk < kInf && d > 0.0) ratio = std::min(ratio, lim_[a].jerk / d);
       }
+      if (ratio < kInf) jcap_[i] = std::cbrt(ratio * ratio);
+    }
   }
 
   // Squared-speed cap at grid point i under slow-down kappa_i (velocity, acceleration where
@@ -306,11 +305,11 @@ std::shared_ptr<detail::BaseLaw> base_law(const Grid& g, const std::vector<doubl
 }
 
 // The smoothing window: the largest jump of an axis's acceleration in the base law divided by that
-// axis's jerk limit (at least 1e-3 of the segment's base duration, so the law is C2 without jerk
-// limits too).
-double window(const Grid& g, const detail::BaseLaw& b, const std::vector<AxisLim>& lim) {
+// axis's jerk limit, and at least `floor` (the first round takes 1e-3 of the segment's base
+// duration, so the law is C2 without jerk limits too; later rounds the window so far).
+double window(const Grid& g, const detail::BaseLaw& b, const std::vector<AxisLim>& lim, double floor) {
   const std::size_t n = g.points(), m = lim.size();
-  double tau = 1e-3 * b.t.back();
+  double tau = floor;
   for (std::size_t i = 0; i < n; ++i) {
     const double wl = i == 0 ? 0.0 : b.w[i - 1], wr = i + 1 == n ? 0.0 : b.w[i];
     const double dw = std::abs(wr - wl);
@@ -320,12 +319,9 @@ double window(const Grid& g, const detail::BaseLaw& b, const std::vector<AxisLim
   return tau;
 }
 
-// Times at which a smoothed segment is verified: its breaks (and the midpoints between them).
-// Times at which a smoothed segment is verified: its breaks t_i and t_i + tau (tags 2i and 2i+1),
-// and the midpoints between them; a sample's tag is 2 tag and 2 tag + 1 of the break at or before it.
-// `s` and `tags` are reused buffers (the result), `br` and `bt` scratch.
-void sample_times(const detail::BaseLaw& b, double tau, std::vector<double>& s, std::vector<std::uint32_t>& tags,
-                  std::vector<double>& br, std::vector<std::uint32_t>& bt) {
+// The breaks of a smoothed segment in local time: t_i and t_i + tau, merged (tags 2i and 2i + 1),
+// each tagged with where it comes from; consecutive breaks bound the intervals that are verified.
+void break_times(const detail::BaseLaw& b, double tau, std::vector<double>& br, std::vector<std::uint32_t>& bt) {
   const std::size_t n = b.t.size();
   br.clear();
   bt.clear();
@@ -343,16 +339,6 @@ void sample_times(const detail::BaseLaw& b, double tau, std::vector<double>& s, 
     if (br.empty() || x > br.back()) {
       br.push_back(x);
       bt.push_back(tag);
-    }
-  }
-  s.clear();
-  tags.clear();
-  for (std::size_t k = 0; k < br.size(); ++k) {
-    s.push_back(br[k]);
-    tags.push_back(2 * bt[k]);
-    if (k + 1 < br.size()) {
-      s.push_back(0.5 * (br[k] + br[k + 1]));
-      tags.push_back(2 * bt[k] + 1);
     }
   }
 }
@@ -384,7 +370,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   // Per sample tag: bit 3a+q set when quantity q of axis a is near enough to its limit to bind
   // (ratio >= near_q[q]); kept across rounds, updated for the samples a round re-verifies.
   const std::size_t words = (3 * m + 63) / 64;
-  std::vector<std::uint64_t> bind(4 * n * words, 0);
+  std::vector<std::uint64_t> bind(2 * n * words, 0);
   double near_q[3];
   std::vector<double> ts;
   double kmax = 1.0;
@@ -396,12 +382,12 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   // A repair round re-verifies only the samples whose window touches a grid interval whose speeds
   // changed, or that exceeded a limit in the round before: every other sample sees the same base
   // law in its window (shifted in time) and so gives the same values as before.
-  bool dense = false;
+  bool dense = false, tau_changed = false;
   std::vector<double> x_prev;
   std::vector<std::size_t> changed_before(n, 0);  // changed intervals among [0, i)
   std::vector<char> viol_prev, viol_now;
-  std::vector<std::uint32_t> tags, scratch_tag;
-  std::vector<double> scratch_t, need(n);
+  std::vector<std::uint32_t> tags;
+  std::vector<double> need(n);
   struct Slow {
     std::size_t i0, i1;
     double f;
@@ -412,7 +398,11 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
     if (!dense) {
       std::vector<double> x = topp.solve(kappa);  // a copy: x_prev keeps the previous round's
       part->base = base_law(g, x);
-      if (iter == 0) tau = window(g, *part->base, lim);
+      // The window follows the largest acceleration jump of the base law, which repairs can
+      // make larger; a wider window changes every interval, so that round verifies them all.
+      const double tau_new = window(g, *part->base, lim, iter == 0 ? 1e-3 * part->base->t.back() : tau);
+      tau_changed = tau_new != tau;
+      tau = tau_new;
       part->tau = tau;
       part->k = 1.0;
       if (!x_prev.empty()) {
@@ -425,13 +415,17 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       }
       x_prev = std::move(x);
     }
-    const bool partial = !dense && iter > 0;
-    viol_now.assign(4 * n, 0);
-    // Verify the smoothed law at its breaks and midpoints, in one sweep: cursors for the base
-    // intervals at s and s - tau, and for the grid interval of u. The path derivatives come from
-    // the Taylor expansion at the grid point below u (exact for piecewise-cubic paths, whose
-    // breaks are all grid points; the final check evaluates the path itself).
-    sample_times(*part->base, tau, ts, tags, scratch_t, scratch_tag);
+    const bool partial = !dense && iter > 0 && !tau_changed;
+    viol_now.assign(2 * n, 0);
+    // Verify the smoothed law exactly, interval by interval, in one sweep: between consecutive
+    // breaks of the smoothed law (t_i and t_i + tau) and the times the path's breaks are passed,
+    // u is a cubic in time and each axis a cubic in u, so q_a(t) is a polynomial of degree 9 whose
+    // derivatives are bounded from above by their Bernstein coefficients; where a bound comes
+    // near a limit, the largest value is found exactly (ends and roots of the next derivative).
+    // Cursors: the base intervals at s and s - tau, and the grid interval of u. The path's
+    // derivatives come from its Taylor expansion at the grid point below u, exact for a
+    // piecewise-cubic path, whose breaks are all grid points.
+    break_times(*part->base, tau, ts, tags);
     {
       const double near_limit = o.binding_fraction / kSafety;
       const double kp = dense ? kmax : 1.0;
@@ -445,95 +439,165 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
     const double T0 = bl.t.back(), L = bl.u.back();
     kmax = 1.0;
     std::size_t ih = 0, il = 0, ig = 0;
-    // Base law at `at` with interval cursor i; returns the area under u_0 up to `at`.
-    // (Double precision is plenty here: u only locates the path derivatives.)
-    auto base_at = [&](double at, std::size_t& i, double* o3) -> double {
-      if (!(at > 0.0)) {
+    auto advance = [&](double at, std::size_t& i) {
+      while (i + 2 < n && bl.t[i + 1] <= at) ++i;
+    };
+    // Base law at `at` (right-hand values) with interval cursor i: u_0, u_0', u_0'' and the area
+    // under u_0 up to `at` (extended precision: u is a difference of two areas).
+    auto base_at = [&](double at, std::size_t& i, double* o3) -> long double {
+      if (at < 0.0) {
         o3[0] = o3[1] = o3[2] = 0.0;
-        return 0.0;
+        return 0.0L;
       }
       if (at >= T0) {
         o3[0] = L;
         o3[1] = o3[2] = 0.0;
-        return double(bl.area[n - 1]) + L * (at - T0);
+        return bl.area[n - 1] + (long double)L * (at - T0);
       }
-      while (i + 2 < n && bl.t[i + 1] <= at) ++i;
+      advance(at, i);
       const double y = at - bl.t[i];
       o3[0] = bl.u[i] + y * (bl.v[i] + 0.5 * bl.w[i] * y);
       o3[1] = bl.v[i] + bl.w[i] * y;
       o3[2] = bl.w[i];
-      return double(bl.area[i]) + y * (bl.u[i] + y * (bl.v[i] * 0.5 + y * bl.w[i] * (1.0 / 6.0)));
+      const long double ly = y;
+      return bl.area[i] + ly * (bl.u[i] + ly * (bl.v[i] / 2.0L + ly * bl.w[i] / 6.0L));
     };
     const double itau = 1.0 / tau;
-    double up[4] = {g.u[0], 0.0, 0.0, 0.0};  // u and its derivatives at the previous sample
-    for (std::size_t k = 0; k < ts.size(); ++k) {
-      const double s = ts[k];
-      double hi[3], lo[3];
-      const double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
-      const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
-      const double uu = s - tau >= T0 ? L : std::min(L, (ahi - alo) * itau);
-      const double ur = uu + g.u[0];
-      const std::size_t ig_prev = ig;
-      while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
-      const double prev[4] = {up[0], up[1], up[2], up[3]};
-      up[0] = ur;
-      up[1] = u1;
-      up[2] = u2;
-      up[3] = u3;
-      if (partial) {
-        const std::size_t i0 = (s - tau > 0.0) ? il : 0, i1 = std::min(ih + 1, n - 1);
-        if (changed_before[i1] == changed_before[i0] && !viol_prev[tags[k]]) continue;
+    std::uint64_t* bits = nullptr;
+    double rv = 0.0, ra = 0.0, rj = 0.0;  // exact largest ratios of the current interval
+    // One piece of the move: sigma in [0, 1] over time H, u(sigma) = ug + X[0..3] (X[0] >= 0 the
+    // offset from grid point ig). Updates rv, ra, rj and the binding bits.
+    auto verify_piece = [&](const double* X, double H) {
+      const double iH = 1.0 / H;
+      // Ranges over the piece, for a first screen by interval arithmetic (certified, cheap):
+      // x = u - u_g in [X0, X(1)] (u nondecreasing), |du/dt| <= U1 (a quadratic in sigma: its
+      // ends and vertex), |d2u/dt2| <= U2 (linear: its ends), d3u/dt3 = U3 (constant).
+      const double xm = std::max(std::abs(X[0]), std::abs(X[0] + X[1] + X[2] + X[3]));
+      double U1 = std::max(std::abs(X[1]), std::abs(X[1] + 2.0 * X[2] + 3.0 * X[3]));
+      if (X[3] != 0.0) {
+        const double sv = -X[2] / (3.0 * X[3]);
+        if (sv > 0.0 && sv < 1.0) U1 = std::max(U1, std::abs(X[1] + sv * (2.0 * X[2] + 3.0 * sv * X[3])));
       }
-      const double dl = ur - g.u[ig];
-      // At a break of the smoothed law d3u/dt3 jumps: the sample is its right value, and the left
-      // limit (the base acceleration of the interval ending there) is checked too.
-      auto w_left = [&](double at, std::size_t i, double w_right) {
-        if (!(at > 0.0) || at > T0) return w_right;
-        if (at == T0) return bl.w[n - 2];
-        return (at == bl.t[i] && i > 0) ? bl.w[i - 1] : w_right;
-      };
-      const double u3l = (w_left(s, ih, hi[2]) - w_left(s - tau, il, lo[2])) * itau;
-      double rv = 0.0, ra = 0.0, rj = 0.0;
-      // Path breaks passed since the previous sample: both sides of each, with the time-law
-      // derivatives interpolated linearly in u between the two samples.
-      for (std::size_t c = ig_prev + 1; c <= ig && k > 0; ++c) {
-        if (!g.brk[c] || !(ur > prev[0])) continue;
-        const double f = std::clamp((g.u[c] - prev[0]) / (ur - prev[0]), 0.0, 1.0);
-        const double c1 = prev[1] + f * (u1 - prev[1]), c2 = prev[2] + f * (u2 - prev[2]), c3 = prev[3] + f * (u3 - prev[3]);
-        for (const std::size_t from : {c - 1, c}) {
-          const double dd = g.u[c] - g.u[from];
-          for (std::size_t a = 0; a < m; ++a) {
-            const double q3 = g.d3[from * m + a], q2 = g.d2[from * m + a] + q3 * dd;
-            const double q1 = g.d1[from * m + a] + dd * (g.d2[from * m + a] + 0.5 * q3 * dd);
-            rv = std::max(rv, std::abs(q1 * c1) * ilim[a * 3]);
-            ra = std::max(ra, std::abs(q2 * c1 * c1 + q1 * c2) * ilim[a * 3 + 1]);
-            rj = std::max(rj, std::abs(q3 * c1 * c1 * c1 + 3.0 * q2 * c1 * c2 + q1 * c3) * ilim[a * 3 + 2]);
-          }
-        }
-      }
-      std::uint64_t* bits = &bind[std::size_t(tags[k]) * words];
-      std::fill(bits, bits + words, 0);
+      U1 *= iH;
+      const double U2 = std::max(std::abs(2.0 * X[2]), std::abs(2.0 * X[2] + 6.0 * X[3])) * iH * iH;
+      const double U3 = std::abs(6.0 * X[3]) * iH * iH * iH;
+      bool powers = false;
+      double x2[7] = {}, x3[10] = {};
       const double* p1 = &g.d1[ig * m];
       const double* p2 = &g.d2[ig * m];
       const double* p3 = &g.d3[ig * m];
       for (std::size_t a = 0; a < m; ++a) {
-        const double q3 = p3[a], q2 = p2[a] + q3 * dl, q1 = p1[a] + dl * (p2[a] + 0.5 * q3 * dl);
-        const double v = std::abs(q1 * u1);
-        const double acc = std::abs(q2 * u1 * u1 + q1 * u2);
-        const double jc = q3 * u1 * u1 * u1 + 3.0 * q2 * u1 * u2;
-        const double j = std::max(std::abs(jc + q1 * u3), std::abs(jc + q1 * u3l));
-        const double r[3] = {v * ilim[a * 3], acc * ilim[a * 3 + 1], j * ilim[a * 3 + 2]};
-        for (std::size_t q = 0; q < 3; ++q)
-          if (r[q] >= near_q[q]) bits[(a * 3 + q) / 64] |= std::uint64_t(1) << ((a * 3 + q) % 64);
-        rv = std::max(rv, r[0]);
-        ra = std::max(ra, r[1]);
-        rj = std::max(rj, r[2]);
+        // |q_u| <= Q1, |q_uu| <= Q2, |q_uuu| = Q3 over the piece (Taylor at the grid point, exact).
+        const double Q3 = std::abs(p3[a]), Q2 = std::abs(p2[a]) + Q3 * xm, Q1 = std::abs(p1[a]) + xm * (std::abs(p2[a]) + 0.5 * Q3 * xm);
+        const double screen[3] = {Q1 * U1 * ilim[a * 3], (Q2 * U1 * U1 + Q1 * U2) * ilim[a * 3 + 1],
+                                  (Q3 * U1 * U1 * U1 + 3.0 * Q2 * U1 * U2 + Q1 * U3) * ilim[a * 3 + 2]};
+        bool any = false;
+        for (int q = 0; q < 3; ++q) any = any || !(screen[q] < near_q[q] && screen[q] <= 1.0);
+        if (!any) continue;
+        if (!powers) {
+          for (int i = 0; i <= 3; ++i)
+            for (int j = 0; j <= 3; ++j) x2[i + j] += X[i] * X[j];
+          for (int i = 0; i <= 6; ++i)
+            for (int j = 0; j <= 3; ++j) x3[i + j] += x2[i] * X[j];
+          powers = true;
+        }
+        // q_a(sigma) - q_a(0) = d1 x + d2 x^2 / 2 + d3 x^3 / 6 with x = X(sigma) (Taylor, exact).
+        const double c1 = p1[a], c2 = 0.5 * p2[a], c3 = p3[a] / 6.0;
+        double P[10];
+        for (int j = 1; j <= 9; ++j) P[j] = c1 * (j <= 3 ? X[j] : 0.0) + c2 * (j <= 6 ? x2[j] : 0.0) + c3 * x3[j];
+        double D[3][9];  // velocity (degree 8), acceleration (7), jerk (6) in sigma, per unit time
+        for (int j = 0; j <= 8; ++j) D[0][j] = double(j + 1) * P[j + 1] * iH;
+        for (int j = 0; j <= 7; ++j) D[1][j] = double(j + 1) * D[0][j + 1] * iH;
+        for (int j = 0; j <= 6; ++j) D[2][j] = double(j + 1) * D[1][j + 1] * iH;
+        for (int q = 0; q < 3; ++q) {
+          const double il_q = ilim[a * 3 + std::size_t(q)];
+          if (!(il_q > 0.0) || (screen[q] < near_q[q] && screen[q] <= 1.0)) continue;
+          const int deg = 8 - q;
+          const double* c = D[q];
+          // Tighter bounds in turn: sigma^j in [0, 1], so c0 + (sum of the negative c_j) <= p <=
+          // c0 + (sum of the positive c_j); then the Bernstein coefficients (convex hull).
+          double pos = 0.0, neg = 0.0;
+          for (int j = 1; j <= deg; ++j) (c[j] > 0.0 ? pos : neg) += c[j];
+          const double quick = std::min(screen[q], std::max(c[0] + pos, -(c[0] + neg)) * il_q);
+          if (quick < near_q[q] && quick <= 1.0) continue;
+          const double bound = std::min(quick, detail::bernstein_max_abs(c, deg) * il_q);
+          if (bound < near_q[q] && bound <= 1.0) continue;
+          const double e1 = c[0] + pos + neg;
+          double r = std::max(std::abs(c[0]), std::abs(e1)) * il_q;  // the ends: values it takes
+          if (r < near_q[q] || bound > 1.0) {
+            const auto [lo, hi] = detail::poly_range(c, deg, 0.0, 1.0);
+            r = std::max(std::abs(hi), std::abs(lo)) * il_q;
+          }
+          if (r >= near_q[q]) bits[(a * 3 + std::size_t(q)) / 64] |= std::uint64_t(1) << ((a * 3 + std::size_t(q)) % 64);
+          double& rq = q == 0 ? rv : q == 1 ? ra : rj;
+          rq = std::max(rq, r);
+        }
+      }
+    };
+    for (std::size_t k = 0; k + 1 < ts.size(); ++k) {
+      const double s = ts[k], H = ts[k + 1] - s;
+      if (partial) {
+        advance(s, ih);
+        advance(s - tau, il);
+        const std::size_t i0 = (s - tau > 0.0) ? il : 0, i1 = std::min(ih + 1, n - 1);
+        if (changed_before[i1] == changed_before[i0] && !viol_prev[tags[k]]) continue;
+      }
+      if (!(H > 0.0)) continue;
+      double hi[3], lo[3];
+      const long double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
+      // u(s + y) = u + u1 y + u2 y^2 / 2 + u3 y^3 / 6 on the interval (u3: the base acceleration
+      // entering minus leaving the window, constant here).
+      const double uu = std::min(L, double((ahi - alo) / (long double)tau));
+      const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
+      const double ur = uu + g.u[0];
+      while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
+      bits = &bind[std::size_t(tags[k]) * words];
+      std::fill(bits, bits + words, 0);
+      rv = ra = rj = 0.0;
+      // The cubic in sigma over the whole interval, u relative to the grid point below.
+      double U[4] = {ur, u1 * H, 0.5 * u2 * H * H, u3 * H * H * H / 6.0};
+      double sg0 = 0.0;  // start of the current piece in sigma
+      for (;;) {
+        const double u_end = U[0] + U[1] + U[2] + U[3];
+        // The next path break passed inside the interval, if any: the piece ends there.
+        std::size_t c = ig + 1;
+        while (c + 1 < n && !g.brk[c]) ++c;
+        const bool split = c + 1 < n && g.u[c] < u_end && g.u[c] > U[0];
+        double sg1 = 1.0;
+        if (split) {
+          // u(sigma) = g.u[c]: u is nondecreasing; safeguarded Newton on [sg0, 1].
+          double a0 = sg0, b0 = 1.0, x = sg0 + (1.0 - sg0) * (g.u[c] - U[0]) / (u_end - U[0]);
+          for (int it = 0; it < 100; ++it) {
+            const double f = U[0] + x * (U[1] + x * (U[2] + x * U[3])) - g.u[c];
+            const double df = U[1] + x * (2.0 * U[2] + 3.0 * x * U[3]);
+            if (f == 0.0) break;
+            if (f < 0.0) a0 = x;
+            else b0 = x;
+            double xn = df > 0.0 ? x - f / df : 0.5 * (a0 + b0);
+            if (!(xn > a0 && xn < b0)) xn = 0.5 * (a0 + b0);
+            if (xn == x || b0 - a0 <= 4e-16) break;
+            x = xn;
+          }
+          sg1 = std::clamp(x, sg0, 1.0);
+        }
+        // This piece, [sg0, sg1], re-expressed in its own sigma' in [0, 1]: u = U(sg0 + w sigma').
+        const double w = sg1 - sg0;
+        if (w > 0.0) {
+          const double e0 = U[0] + sg0 * (U[1] + sg0 * (U[2] + sg0 * U[3]));
+          const double d1 = U[1] + sg0 * (2.0 * U[2] + 3.0 * sg0 * U[3]);
+          const double d2 = U[2] + 3.0 * sg0 * U[3];
+          const double X[4] = {e0 - g.u[ig], d1 * w, d2 * w * w, U[3] * w * w * w};
+          verify_piece(X, H * w);
+        }
+        if (!split) break;
+        sg0 = sg1;
+        ig = c;
       }
       const double kneed = std::max({1.0, rv, std::sqrt(std::max(ra, rj))});
       if (rv > kmax || ra > kmax * kmax || rj > kmax * kmax * kmax) kmax = std::max({kmax, rv, std::sqrt(ra), std::cbrt(rj)});
       if (kneed > 1.0) {
         if (!dense) viol_now[tags[k]] = 1;
-        // The base law inside the window [s - tau, s] made this sample: slow it down there.
+        // The base law inside the window [s - tau, s + H] made this interval: slow it down there.
         slow.push_back({(s - tau > 0.0) ? il : 0, std::min(ih + 1, n - 1), kneed * 1.001});
       }
     }
@@ -572,20 +636,21 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   sp.part = part;
   sp.grid_points = n;
   sp.repairs = repairs;
-  // Binding intervals: consecutive samples where a quantity is at >= binding_fraction of its limit.
+  // Binding intervals: runs of consecutive intervals where a quantity reaches binding_fraction of
+  // its limit.
   for (std::size_t a = 0; a < m; ++a)
     for (std::size_t q = 0; q < 3; ++q) {
       const Quantity qq = q == 0 ? Quantity::kVel : q == 1 ? Quantity::kAcc : Quantity::kJerk;
       const std::size_t bit = a * 3 + q;
       bool open = false;
       Binding cur;
-      for (std::size_t k = 0; k < ts.size(); ++k) {
+      for (std::size_t k = 0; k + 1 < ts.size(); ++k) {
         const bool on = (bind[std::size_t(tags[k]) * words + bit / 64] >> (bit % 64)) & 1u;
         if (on && !open) {
-          cur = {Index(a), qq, ts[k] * kmax, ts[k] * kmax};
+          cur = {Index(a), qq, ts[k] * kmax, ts[k + 1] * kmax};
           open = true;
         } else if (on) {
-          cur.t_end = ts[k] * kmax;
+          cur.t_end = ts[k + 1] * kmax;
         } else if (open) {
           sp.binding.push_back(cur);
           open = false;

@@ -394,46 +394,6 @@ Plan plan(const Scene& scene) {
       p.binding = std::move(r.binding);
       p.grid_points = r.grid_points;
       p.fastest_stretch = r.stretch;
-      // Final gate: the independent checker against the planned limits (scale x limits). The
-      // planner verifies itself on its own samples; where the checker still finds a quantity
-      // beyond its limit, the whole move is slowed down uniformly by the checker's stretch
-      // factor, so a fastest plan is never reported outside the limits it was planned for.
-      // The gate samples coarser than `check` (what can hide between its samples is below
-      // kGate of a limit) and checks against (1 - 2 kGate) x scale x limits, so whatever it
-      // misses still stays inside scale x limits.
-      constexpr double kGate = 1e-4;  // the planner itself plans 5e-4 inside the limits
-      CheckOptions gate;
-      gate.sample_tol = kGate;
-      gate.sample_tol_jerk = kGate;
-      gate.samples_per_piece = 4;
-      const double f = o.scale * (1.0 - 2.0 * kGate);
-      std::vector<AxisLimits> planned(p.limits.size());
-      for (std::size_t a = 0; a < p.limits.size(); ++a) {
-        if (p.limits[a].vel) planned[a].vel = f * *p.limits[a].vel;
-        if (p.limits[a].acc) planned[a].acc = f * *p.limits[a].acc;
-        if (p.limits[a].jerk) planned[a].jerk = f * *p.limits[a].jerk;
-      }
-      for (int round = 0; round < 3; ++round) {
-        const Report rep = check_limits(PathTrajectory(p.path, p.time_law), planned, gate);
-        if (rep.stretch <= 1.0) break;
-        const double k = rep.stretch * (1.0 + 1e-9);
-        const std::vector<double> before = p.time_law->part_times();
-        p.time_law = p.time_law->stretched(k);
-        const std::vector<double> after = p.time_law->part_times();
-        auto map_time = [&](double tt) {
-          std::size_t i = std::size_t(std::upper_bound(before.begin(), before.end() - 1, tt) - before.begin());
-          i = std::clamp<std::size_t>(i, 1, before.size() - 1);
-          const double span = before[i] - before[i - 1];
-          return after[i - 1] + (span > 0 ? (tt - before[i - 1]) / span : 0.0) * (after[i] - after[i - 1]);
-        };
-        for (auto& b : p.binding) {
-          b.t_start = map_time(b.t_start);
-          b.t_end = map_time(b.t_end);
-        }
-        p.fastest_stretch *= k;
-        p.notes.push_back("fastest plan: the final check found the plan beyond its limits; the whole move was "
-                          "slowed down uniformly by a factor " + std::to_string(k) + " to stay inside");
-      }
     }
   } catch (const Error& e) {
     if (!e.file().empty()) throw;

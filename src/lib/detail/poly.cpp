@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <utility>
 
 namespace c2path::detail {
@@ -33,6 +34,72 @@ double bisect(const double* c, int degree, double lo, double hi, double plo) {
   return std::abs(plo) <= std::abs(phi) ? lo : hi;
 }
 
+// Safeguarded Newton on [lo, hi] where p is monotone and changes sign: a Newton step where it
+// stays inside the bracket, else bisection; the bracket shrinks with every step. Stops when a
+// step no longer moves the iterate by more than a few ulps.
+double newton_bracketed(const double* c, int degree, double lo, double hi, double plo) {
+  double x = 0.5 * (lo + hi);
+  for (int it = 0; it < 200; ++it) {
+    double p = c[degree], dp = 0.0;
+    for (int k = degree - 1; k >= 0; --k) {
+      dp = dp * x + p;
+      p = p * x + c[k];
+    }
+    if (p == 0.0) return x;
+    if ((p < 0.0) == (plo < 0.0)) lo = x;
+    else hi = x;
+    double xn = dp != 0.0 ? x - p / dp : 0.5 * (lo + hi);
+    if (!(xn > lo && xn < hi)) xn = 0.5 * (lo + hi);
+    if (!(xn > lo && xn < hi)) return x;  // the bracket cannot shrink further
+    if (std::abs(xn - x) <= 4.0 * std::numeric_limits<double>::epsilon() * std::abs(x)) return xn;
+    x = xn;
+  }
+  return x;
+}
+
+// Degree 4 and up. On [0, 1] a polynomial whose Bernstein coefficients all have one sign has no
+// root there (convex hull property), which prunes most calls at once; otherwise the critical
+// points (roots of p', recursively) split (a, b) into monotone stretches, each solved by
+// safeguarded Newton.
+int roots_high(const double* c, int degree, double a, double b, double* out) {
+  if (a == 0.0 && b == 1.0) {
+    double bz[kMaxPolyDegree + 1];
+    bernstein(c, degree, bz);
+    bool pos = true, neg = true;
+    for (int i = 0; i <= degree; ++i) {
+      pos = pos && bz[i] > 0.0;
+      neg = neg && bz[i] < 0.0;
+    }
+    if (pos || neg) return 0;
+  }
+  double dc[kMaxPolyDegree];
+  for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
+  double crit[kMaxPolyDegree];
+  const int nc = poly_roots_in(dc, degree - 1, a, b, crit);
+  double pts[kMaxPolyDegree + 2];
+  int np = 0;
+  pts[np++] = a;
+  for (int i = 0; i < nc; ++i) pts[np++] = crit[i];
+  pts[np++] = b;
+  int nr = 0;
+  double prev_val = poly_eval(c, degree, pts[0]);
+  for (int i = 0; i + 1 < np; ++i) {
+    const double lo = pts[i], hi = pts[i + 1];
+    const double plo = prev_val, phi = poly_eval(c, degree, hi);
+    prev_val = phi;
+    if (phi == 0.0 && i + 1 < np - 1) {
+      if (nr == 0 || out[nr - 1] != hi) out[nr++] = hi;
+      continue;
+    }
+    if (plo == 0.0) continue;
+    if ((plo < 0.0) != (phi < 0.0) && phi != 0.0) {
+      const double r = newton_bracketed(c, degree, lo, hi, plo);
+      if (r > a && r < b && (nr == 0 || out[nr - 1] != r)) out[nr++] = r;
+    }
+  }
+  return nr;
+}
+
 }  // namespace
 
 int poly_roots_in(const double* c, int degree, double a, double b, double* out) {
@@ -47,6 +114,7 @@ int poly_roots_in(const double* c, int degree, double a, double b, double* out) 
     return 0;
   }
   if (degree > kMaxPolyDegree) return 0;  // programmer error; callers stay within the bound
+  if (degree >= 4) return roots_high(c, degree, a, b, out);
   // Critical points split (a, b) into stretches where p is monotone.
   double dc[kMaxPolyDegree];
   for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
@@ -98,6 +166,24 @@ std::pair<double, double> poly_extreme(const double* c, int degree, double a, do
     for (int k = 0; k < n; ++k) consider(r[k]);
   }
   return {best, best_s};
+}
+
+std::pair<double, double> poly_range(const double* c, int degree, double a, double b) {
+  double lo = poly_eval(c, degree, a), hi = lo;
+  auto consider = [&](double s) {
+    const double v = poly_eval(c, degree, s);
+    lo = std::min(lo, v);
+    hi = std::max(hi, v);
+  };
+  consider(b);
+  if (degree >= 2 && degree <= kMaxPolyDegree) {
+    double dc[kMaxPolyDegree];
+    for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
+    double r[kMaxPolyDegree];
+    const int n = poly_roots_in(dc, degree - 1, a, b, r);
+    for (int k = 0; k < n; ++k) consider(r[k]);
+  }
+  return {lo, hi};
 }
 
 namespace {

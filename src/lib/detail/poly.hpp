@@ -23,6 +23,10 @@ int poly_roots_in(const double* c, int degree, double a, double b, double* out);
 /// the ends and the roots of p' (poly_roots_in). Returns (p there, s).
 std::pair<double, double> poly_extreme(const double* c, int degree, double a, double b, int side);
 
+/// Smallest and largest p(s) over [a, b] (degree <= kMaxPolyDegree): the ends and the roots of
+/// p', found once. Returns {min, max}.
+std::pair<double, double> poly_range(const double* c, int degree, double a, double b);
+
 /// Bernstein coefficients b[0..degree] on [0, 1] of p(s) = sum c[k] s^k (degree <= kMaxPolyDegree):
 /// b_i = sum_{k <= i} C(i, k) / C(degree, k) c_k. By the convex hull property
 /// min b <= p(s) <= max b on [0, 1], with b_0 = p(0) and b_degree = p(1).
