@@ -13,6 +13,7 @@
 #include <fstream>
 #include <limits>
 #include <memory>
+#include <random>
 #include <sstream>
 #include <string>
 #include <sys/wait.h>
@@ -23,6 +24,7 @@
 #include "c2path/export.hpp"
 #include "c2path/scene_yaml.hpp"
 #include "c2path/timing.hpp"
+#include "detail/atomic_file.hpp"
 #include "test_util.hpp"
 
 using namespace c2path;
@@ -568,4 +570,49 @@ TEST_CASE("export: SIGKILL in the middle of a long export leaves the earlier fil
   REQUIRE(run(std::string(C2PATH_CLI) + " export " + scene.string() + " -o " + target.string() + " --rate 10") == 0);
   CHECK(slurp(target.string()).rfind("t,x,x.vel,x.acc,y,y.vel,y.acc\n", 0) == 0);
   fs::remove_all(d);
+}
+
+TEST_CASE("export: the atomic file writes every byte, O_DIRECT or buffered, at any length", "[export]") {
+  // Lengths around the 4 KiB blocks of O_DIRECT and the 4 MiB write blocks, written in chunks of
+  // random sizes; the file must hold exactly those bytes (the padded tail of a direct write is cut
+  // back by ftruncate). On disk (the test's scratch directory) and on tmpfs (/dev/shm) when there.
+  std::vector<fs::path> dirs = {scratch("atomic")};
+  std::error_code ec;
+  if (fs::is_directory("/dev/shm", ec)) {
+    const fs::path shm = fs::path("/dev/shm") / ("c2path_export_test_" + std::to_string(::getpid()));
+    fs::create_directories(shm, ec);
+    if (!ec) dirs.push_back(shm);
+  }
+  constexpr std::size_t B = detail::AtomicFile::kBlockBytes;
+  std::mt19937_64 rng(3);
+  for (const auto& d : dirs) {
+    for (std::size_t len : {std::size_t(0), std::size_t(1), std::size_t(511), std::size_t(4095), std::size_t(4096),
+                            std::size_t(4097), B - 1, B, B + 1, 2 * B + 12345}) {
+      std::string bytes(len, '\0');
+      for (auto& ch : bytes) ch = char('a' + rng() % 26);
+      const fs::path target = d / "out.bin";
+      bool direct = false;
+      {
+        detail::AtomicFile f(target.string());
+        std::size_t at = 0;
+        while (at < len) {
+          const std::size_t n = std::min<std::size_t>(len - at, 1 + rng() % 700000);
+          f.write(std::string_view(bytes).substr(at, n));
+          at += n;
+        }
+        direct = f.direct();
+        f.commit();
+      }
+      INFO(target << ", " << len << " bytes, O_DIRECT " << direct);
+      REQUIRE(fs::file_size(target) == len);
+      REQUIRE(slurp(target.string()) == bytes);
+      std::size_t files = 0;
+      for (const auto& e : fs::directory_iterator(d)) {
+        (void)e;
+        ++files;
+      }
+      CHECK(files == 1);  // no temporary left beside it
+    }
+  }
+  if (dirs.size() > 1) fs::remove_all(dirs[1], ec);
 }

@@ -217,27 +217,37 @@ constexpr std::uint64_t kCMin = std::uint64_t(1) << 52;
   return {one ^ ((one ^ ten) & use_ten), k};
 }
 
-struct Decoded {
-  ShortestDecimal d;
-  int q;           // v = c 2^q exactly
-  std::uint64_t c;
-};
+using Decoded = ShortestParts;
 
-[[gnu::always_inline]] inline Decoded decode(std::uint64_t bits, const Pow10Table& tab) {
+// |v| of a non-zero finite double: its shortest decimal and its exact binary value.
+[[gnu::always_inline]] inline void decode(std::uint64_t bits, const Pow10Table& tab, Decoded& out) {
   const auto be = int((bits >> 52) & 0x7ff);
   const std::uint64_t t = bits & (kCMin - 1);
   if (be != 0) {
     const int mq = 1075 - be;  // q = -mq
     const std::uint64_t c = kCMin | t;
+    out.q = -mq;
+    out.c = c;
     if (mq > 0 && mq < 53) {  // an integer below 2^53: its digits are the shortest decimal
       const std::uint64_t f = c >> mq;
-      if (f << mq == c) return {{f, 0}, -mq, c};
+      if (f << mq == c) {
+        out.digits = f;
+        out.exponent = 0;
+        return;
+      }
     }
-    return {to_decimal(-mq, c, tab), -mq, c};
+    const ShortestDecimal d = to_decimal(-mq, c, tab);
+    out.digits = d.digits;
+    out.exponent = d.exponent;
+    return;
   }
   // Subnormal. (The paper scales the two smallest by 10 to get two digits; the shortest text
   // does not want that: 5e-324, 1e-323.)
-  return {to_decimal(kQMin, t, tab), kQMin, t};
+  out.q = kQMin;
+  out.c = t;
+  const ShortestDecimal d = to_decimal(kQMin, t, tab);
+  out.digits = d.digits;
+  out.exponent = d.exponent;
 }
 
 // ---- text -------------------------------------------------------------------------------------
@@ -281,24 +291,44 @@ char* put_exact_integer(char* p, std::uint64_t c, int q) {
 
 const Pow10Entry& pow10_entry(int e) noexcept { return table().e[std::size_t(e - kMinPow10)]; }
 
-ShortestDecimal shortest_decimal(double v) noexcept { return decode(std::bit_cast<std::uint64_t>(v), table()).d; }
+ShortestDecimal shortest_decimal(double v) noexcept {
+  Decoded d;
+  decode(std::bit_cast<std::uint64_t>(v), table(), d);
+  return {d.digits, d.exponent};
+}
+
+void shortest_parts(const double* v, std::size_t n, ShortestParts* out) noexcept {
+  const Pow10Table& tab = table();
+  for (std::size_t i = 0; i < n; ++i) {
+    const auto bits = std::bit_cast<std::uint64_t>(v[i]);
+    out[i].negative = (bits >> 63) != 0;
+    out[i].zero = (bits << 1) == 0;
+    decode(out[i].zero ? std::bit_cast<std::uint64_t>(1.0) : bits, tab, out[i]);
+  }
+}
 
 char* write_shortest(char* p, double v) noexcept {
-  const auto bits = std::bit_cast<std::uint64_t>(v);
-  if (bits >> 63) *p++ = '-';
-  if ((bits << 1) == 0) {
+  ShortestParts s;
+  shortest_parts(&v, 1, &s);
+  return write_parts(p, s);
+}
+
+char* write_parts(char* p, const ShortestParts& dec) noexcept {
+  if (dec.negative) *p++ = '-';
+  if (dec.zero) {
     *p = '0';
     return p + 1;
   }
-  const Decoded dec = decode(bits, table());
-  const std::uint64_t f = dec.d.digits;  // 1 <= f < 10^17
+  const std::uint64_t f = dec.digits;  // 1 <= f < 10^17
 
   // f = top 10^16 + mid 10^8 + lo; w1, w2: the 8 digits of mid and lo, one per byte, first digit
   // in the lowest byte (so in memory order).
-  const std::uint64_t top = f / 10'000'000'000'000'000ULL;
-  const std::uint64_t rest = f - top * 10'000'000'000'000'000ULL;
-  const std::uint64_t mid = rest / 100'000'000ULL;
-  const std::uint64_t w1 = digit_bytes(mid), w2 = digit_bytes(rest - mid * 100'000'000ULL);
+  // (lo straight from f, so that its digits need not wait for top and mid)
+  const std::uint64_t q8 = f / 100'000'000ULL;
+  const std::uint64_t lo = f - q8 * 100'000'000ULL;
+  const std::uint64_t top = q8 / 100'000'000ULL;
+  const std::uint64_t mid = q8 - top * 100'000'000ULL;
+  const std::uint64_t w1 = digit_bytes(mid), w2 = digit_bytes(lo);
   // Digits of f (n17), its trailing zeros (tz), then the first digit d0 and the next 16 (r, one
   // per byte, zero bytes past the end).
   int n17, tz;
@@ -315,7 +345,7 @@ char* write_shortest(char* p, double v) noexcept {
   const u128 r = lead < 16 ? x >> (8 * (lead & 15)) : u128(0);              // z[lead + 1 .. lead + 17)
   n17 = 17 - lead;
   const int n = n17 - tz;                  // significant digits
-  const int E = dec.d.exponent + n17 - 1;  // scientific exponent
+  const int E = dec.exponent + n17 - 1;  // scientific exponent
   constexpr std::uint64_t kAscii = 0x3030303030303030ULL;
   const u128 r_ascii = r + ((u128)kAscii << 64 | kAscii);  // '0' added to every byte, no carries
   const char c0 = char('0' + d0);

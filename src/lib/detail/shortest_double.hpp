@@ -23,6 +23,24 @@ inline constexpr std::size_t kShortestRoom = 40;
 /// not handled (the exporter's values are always finite).
 char* write_shortest(char* p, double v) noexcept;
 
+/// A finite double taken apart: sign, zero, its shortest decimal `digits * 10^exponent` (digits
+/// possibly with trailing zeros) and its exact value `c * 2^q`.
+struct ShortestParts {
+  std::uint64_t digits;
+  std::uint64_t c;
+  std::int32_t exponent;
+  std::int32_t q;
+  bool negative;
+  bool zero;
+};
+/// Takes apart the finite doubles v[0, n) into out[0, n). Separate from write_parts so that a
+/// caller can do the arithmetic of many numbers in one tight loop (independent work the processor
+/// overlaps) before writing their text.
+void shortest_parts(const double* v, std::size_t n, ShortestParts* out) noexcept;
+/// Writes the text of one taken-apart double at p, the same as write_shortest; returns the end.
+/// p needs kShortestRoom writable bytes.
+char* write_parts(char* p, const ShortestParts& s) noexcept;
+
 /// The decimal of Schubfach: `digits * 10^exponent`, `digits` possibly with trailing zeros
 /// (exposed for the tests).
 struct ShortestDecimal {
