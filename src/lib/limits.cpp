@@ -278,44 +278,78 @@ void check_poly(const Trajectory& tr, const PolyPieces& P, const std::vector<Axi
     return st4(a, d);
   };
   r.peaks.assign(m, AxisPeaks{});
-  // Bernstein range of every piece's position and derivatives: lo/hi[(k * m + a) * 4 + d].
-  std::vector<double> blo(n * m * 4), bhi(n * m * 4);
+  // Per piece and derivative d of one axis at a time: the ends (values taken) and a first range
+  // bound in O(degree) (sigma^j in [0, 1]: c0 + sum of the negative c_j <= p <= c0 + sum of the
+  // positive c_j); the Bernstein range (tighter, O(degree^2)) only where that does not settle
+  // a question.
+  std::vector<double> qlo(n * 4), qhi(n * 4), e0(n * 4), e1(n * 4);
   double g[detail::kMaxPolyDegree + 1], b[detail::kMaxPolyDegree + 1];
-  for (std::size_t k = 0; k < n; ++k)
-    for (std::size_t a = 0; a < m; ++a)
+  const int D = P.degree;
+  auto cells = [&](std::size_t a) {
+    for (std::size_t k = 0; k < n; ++k) {
+      const double h = P.t[k + 1] - P.t[k], ih = h > 0 ? 1.0 / h : 0.0;
+      const double* c = P.coeffs(k, Index(a));
+      for (int j = 0; j <= D; ++j) g[j] = c[j];
       for (int d = 0; d < 4; ++d) {
-        const int deg = poly_deriv(P, k, Index(a), d, g);
-        detail::bernstein(g, deg, b);
-        double lo = b[0], hi = b[0];
-        for (int i = 1; i <= deg; ++i) {
-          lo = std::min(lo, b[i]);
-          hi = std::max(hi, b[i]);
-        }
-        blo[(k * m + a) * 4 + std::size_t(d)] = lo;
-        bhi[(k * m + a) * 4 + std::size_t(d)] = hi;
+        const int deg = std::max(D - d, 0);
+        if (d > 0)  // differentiate once more: d/dt = (1/h) d/dsigma
+          for (int j = 0; j <= deg; ++j) g[j] = j < D - d + 1 ? double(j + 1) * g[j + 1] * ih : 0.0;
+        double pos = 0.0, neg = 0.0;
+        for (int j = 1; j <= deg; ++j) (g[j] > 0.0 ? pos : neg) += g[j];
+        const std::size_t i = k * 4 + std::size_t(d);
+        qlo[i] = g[0] + neg;
+        qhi[i] = g[0] + pos;
+        e0[i] = g[0];
+        e1[i] = g[0] + pos + neg;  // p(1): the sum of the coefficients
       }
+    }
+  };
+  // Bernstein range of one cell of the current axis (computed on demand).
+  auto bern = [&](std::size_t k, std::size_t a, int d, double& lo, double& hi) {
+    const int deg = poly_deriv(P, k, Index(a), d, g);
+    detail::bernstein(g, deg, b);
+    lo = hi = b[0];
+    for (int j = 1; j <= deg; ++j) {
+      lo = std::min(lo, b[j]);
+      hi = std::max(hi, b[j]);
+    }
+    const std::size_t i = k * 4 + std::size_t(d);
+    lo = std::max(lo, qlo[i]);
+    hi = std::min(hi, qhi[i]);
+  };
   std::vector<std::pair<double, std::size_t>> cand;
   for (std::size_t a = 0; a < m; ++a) {
     AxisPeaks& pk = r.peaks[a];
+    cells(a);
     // side +1 / -1 of the position, then |vel|, |acc|, |jerk| (side 0: magnitude).
     for (int qd = 0; qd < 5; ++qd) {
       const int d = qd < 2 ? 0 : qd - 1, side = qd == 0 ? 1 : qd == 1 ? -1 : 0;
-      // The best value found (as side * value, or magnitude) and when.
-      double best = -std::numeric_limits<double>::infinity(), tbest = P.t.front();
       auto score = [&](double v) { return side == 0 ? std::abs(v) : side * v; };
+      auto upper = [&](double lo, double hi) { return side == 0 ? std::max(std::abs(lo), std::abs(hi)) : side > 0 ? hi : -lo; };
+      // The best value found (as side * value, or magnitude) and when: first the ends.
+      double best = -std::numeric_limits<double>::infinity(), tbest = P.t.front();
+      for (std::size_t k = 0; k < n; ++k) {
+        const std::size_t i = k * 4 + std::size_t(d);
+        if (score(e0[i]) > best) { best = score(e0[i]); tbest = P.t[k]; }
+        if (score(e1[i]) > best) { best = score(e1[i]); tbest = P.t[k + 1]; }
+      }
+      // Branch and bound: pieces whose bound beats the best so far, best bound first.
       cand.clear();
       for (std::size_t k = 0; k < n; ++k) {
-        const std::size_t i = (k * m + a) * 4 + std::size_t(d);
-        const int deg = poly_deriv(P, k, Index(a), d, g);
-        const double e0 = g[0], e1 = detail::poly_eval(g, deg, 1.0);
-        if (score(e0) > best) { best = score(e0); tbest = P.t[k]; }
-        if (score(e1) > best) { best = score(e1); tbest = P.t[k + 1]; }
-        const double ub = side == 0 ? std::max(std::abs(blo[i]), std::abs(bhi[i])) : side > 0 ? bhi[i] : -blo[i];
-        cand.push_back({ub, k});
+        const std::size_t i = k * 4 + std::size_t(d);
+        const double ub = upper(qlo[i], qhi[i]);
+        if (ub > best) cand.push_back({ub, k});
       }
-      std::sort(cand.begin(), cand.end(), [](const auto& x, const auto& y) { return x.first > y.first || (x.first == y.first && x.second < y.second); });
+      // The few largest bounds first (they raise `best` to about the peak), then the rest in
+      // piece order, each skipped once `best` reaches its bound.
+      const auto by_bound = [](const auto& x, const auto& y) { return x.first > y.first || (x.first == y.first && x.second < y.second); };
+      const std::size_t head = std::min<std::size_t>(cand.size(), 16);
+      std::partial_sort(cand.begin(), cand.begin() + std::ptrdiff_t(head), cand.end(), by_bound);
       for (const auto& [ub, k] : cand) {
-        if (!(ub > best)) break;
+        if (!(ub > best)) continue;
+        double lo, hi;
+        bern(k, a, d, lo, hi);
+        if (!(upper(lo, hi) > best)) continue;
         const int deg = poly_deriv(P, k, Index(a), d, g);
         const double h = P.t[k + 1] - P.t[k];
         for (int sd : {+1, -1}) {
@@ -349,16 +383,22 @@ void check_poly(const Trajectory& tr, const PolyPieces& P, const std::vector<Axi
     if (!(excess > st.tol)) continue;
     const int d = deriv_of(st.q);
     auto own_st = [&](double t, double pv) { return own(t, st.axis, d, pv); };
+    cells(std::size_t(st.axis));
     for (std::size_t k = 0; k < n; ++k) {
-      const std::size_t i = (k * m + std::size_t(st.axis)) * 4 + std::size_t(d);
+      const std::size_t i = k * 4 + std::size_t(d);
       const double t0 = P.t[k], t1 = P.t[k + 1];
+      auto beyond = [&](double lo, double hi) {
+        return st.q == Quantity::kPos ? (st.side > 0 ? hi > st.limit : lo < st.limit) : (hi > st.limit || lo < -st.limit);
+      };
+      if (!beyond(qlo[i], qhi[i])) continue;
+      double blo_i, bhi_i;
+      bern(k, std::size_t(st.axis), d, blo_i, bhi_i);
+      if (!beyond(blo_i, bhi_i)) continue;
       if (st.q == Quantity::kPos) {
-        if (!(st.side > 0 ? bhi[i] > st.limit : blo[i] < st.limit)) continue;
         const int deg = poly_deriv(P, k, st.axis, d, g);
         exceed_sigma(g, deg, st.limit, st.side, t0, t1, st, false, own_st);
       } else {
-        const bool up_possible = bhi[i] > st.limit, down_possible = blo[i] < -st.limit;
-        if (!up_possible && !down_possible) continue;
+        const bool up_possible = bhi_i > st.limit, down_possible = blo_i < -st.limit;
         const int deg = poly_deriv(P, k, st.axis, d, g);
         Stream up{st.axis, st.q, st.limit, st.tol, +1, {}};
         Stream down{st.axis, st.q, st.limit, st.tol, +1, {}};

@@ -356,7 +356,8 @@ bool PathTrajectory::poly_pieces(PolyPieces& out) const {
   out.axes = m;
   out.t = br;
   out.c.assign(n * std::size_t(m) * std::size_t(w), 0.0);
-  Eigen::VectorXd d0(m), d1(m), d2(m), d3(m);
+  Eigen::VectorXd d0(m);
+  Eigen::MatrixXd pd(m, 4);
   for (std::size_t k = 0; k < n; ++k) {
     double x[16] = {}, x2[16] = {}, x3[16] = {};
     const int dk = du[k];
@@ -371,10 +372,7 @@ bool PathTrajectory::poly_pieces(PolyPieces& out) const {
     }
     // The path's cubic around u at the interval's middle, in x = u - u_mid; then x(sigma).
     const double um = detail::poly_eval(c, dk, 0.5);
-    path_->eval(um, 0, d0);
-    path_->eval(um, 1, d1);
-    path_->eval(um, 2, d2);
-    path_->eval(um, 3, d3);
+    path_->eval_all(um, pd);
     for (int j = 0; j <= dk; ++j) x[j] = c[j];
     x[0] -= um;
     for (int i = 0; i <= dk; ++i)
@@ -383,9 +381,9 @@ bool PathTrajectory::poly_pieces(PolyPieces& out) const {
       for (int j = 0; j <= dk; ++j) x3[i + j] += x2[i] * x[j];
     for (Index a = 0; a < m; ++a) {
       double* p = row + std::size_t(a) * std::size_t(w);
-      const double p1 = d1[a], p2 = 0.5 * d2[a], p3 = d3[a] / 6.0;
+      const double p1 = pd(a, 1), p2 = 0.5 * pd(a, 2), p3 = pd(a, 3) / 6.0;
       for (int j = 0; j <= 3 * dk; ++j) p[j] = p1 * x[j] + p2 * x2[j] + p3 * x3[j];
-      p[0] += d0[a];
+      p[0] += pd(a, 0);
     }
   }
   return true;

@@ -6,6 +6,7 @@
 
 #include <cstdint>
 
+#include "c2path/limits.hpp"
 #include "c2path/time_law.hpp"
 #include "c2path/timing.hpp"
 
@@ -85,5 +86,21 @@ void BM_plan_fastest_planner_only(benchmark::State& state) {
   state.counters["grid_points"] = double(grid);
 }
 BENCHMARK(BM_plan_fastest_planner_only)->Arg(1000)->Unit(benchmark::kMillisecond);
+
+// The independent exact check of that plan (what `c2path check` runs): the time law composed
+// with the spline (Trajectory::poly_pieces), peaks, violations.
+void BM_check_fastest(benchmark::State& state) {
+  const Scene s = long_move(std::size_t(state.range(0)));
+  const Plan p = plan(s);
+  std::size_t pieces = 0;
+  for (auto _ : state) {
+    const Report r = check_limits(*p.trajectory, p.limits);
+    benchmark::DoNotOptimize(r.peaks.data());
+  }
+  PolyPieces pp;
+  if (p.trajectory->poly_pieces(pp)) pieces = pp.pieces();
+  state.counters["pieces"] = double(pieces);
+}
+BENCHMARK(BM_check_fastest)->Arg(100)->Arg(1000)->Unit(benchmark::kMillisecond);
 
 }  // namespace
