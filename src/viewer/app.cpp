@@ -35,10 +35,32 @@ App::App(Document& doc, AppOptions options) : doc_(doc), opt_(std::move(options)
   if (opt_.tab == "report") tab_request_ = 1;
   if (opt_.tab == "view") tab_request_ = 2;
   save_path_ = doc_.path();
+  // Planning runs on a worker thread (edits never wait for it); the samples for drawing and the
+  // view-independent path thinning are computed there too, with this frame's view parameters.
+  doc_.set_background(true);
+  doc_.set_derive([this]() -> Document::Derive {
+    const ThinParams tp = thin_params();
+    return [tp](Planned& p) {
+      auto s = std::make_shared<Samples>();
+      s->build(p);
+      p.thin = std::make_shared<const PathThin>(thin_path_3d(*s, tp));
+      p.samples = std::move(s);
+    };
+  });
+}
+
+App::~App() {
+  doc_.set_derive({});
+  doc_.finish_planning();
+}
+
+const Samples& App::samples() const {
+  static const Samples kNone{};
+  return samples_p_ ? *samples_p_ : kNone;
 }
 
 std::string App::stats() const {
-  return std::to_string(samples_.n) + " samples, " + std::to_string(pre_idx_.size()) + " kept in 3D, " +
+  return std::to_string(samples().n) + " samples, " + std::to_string(pre_idx_.size()) + " kept in 3D, " +
          std::to_string(drawn_segments_) + " path segments drawn, " +
          std::to_string(drawn_handles_) + " handles drawn";
 }
@@ -49,9 +71,17 @@ void App::sync_plan() {
   seen_generation_ = doc_.generation();
   const Planned* p = doc_.shown();
   have_samples_ = p != nullptr;
-  if (!p) return;
-  samples_.build(*p);
-  const int axes = int(samples_.axes);
+  if (!p) {
+    samples_p_.reset();
+    return;
+  }
+  if (p->samples) samples_p_ = p->samples;
+  else {  // planned without the viewer's derive step (loading): sample here
+    auto s = std::make_shared<Samples>();
+    s->build(*p);
+    samples_p_ = std::move(s);
+  }
+  const int axes = int(samples().axes);
   bool remap = false;
   for (int& m : map_)
     if (m >= axes) remap = true;
@@ -95,6 +125,7 @@ void App::backdrop(const Rect& r, ImU32 colour) {
 
 void App::frame(double dt_s) {
   backdrops_.clear();
+  save_field_rect_ = save_button_rect_ = replace_button_rect_ = Rect{};
   sync_plan();
   handle_keys();
   if (opt_.spin) {  // measurement: the camera moves every frame (no cached path), playback runs
@@ -349,13 +380,16 @@ void App::save_dialog() {
     ImGui::TextUnformatted("Write the scene as edited (format 1) to:");
     ImGui::SetNextItemWidth(-1);
     const bool enter = ImGui::InputText("##file", &save_path_, ImGuiInputTextFlags_EnterReturnsTrue);
+    save_field_rect_ = {ImGui::GetItemRectMin(), ImGui::GetItemRectMax()};
     ImGui::TextColored(ImColor(col::kWarn), "Comments and layout of the original file are not kept.");
     ImGui::TextColored(ImColor(col::kTextDim), "The file is written to a temporary file beside it, then renamed.");
     std::error_code ec;
     const bool exists = !save_path_.empty() && std::filesystem::exists(save_path_, ec);
     if (exists) ImGui::TextColored(ImColor(col::kWarn), "This file exists; you will be asked before it is replaced.");
     bool go = false;
-    if (ImGui::Button("Save", {90, 0}) || enter) go = !save_path_.empty();
+    const bool save_clicked = ImGui::Button("Save", {90, 0});
+    save_button_rect_ = {ImGui::GetItemRectMin(), ImGui::GetItemRectMax()};
+    if (save_clicked || enter) go = !save_path_.empty();
     ImGui::SameLine();
     if (ImGui::Button("Cancel", {90, 0})) ImGui::CloseCurrentPopup();
     if (go) {
@@ -381,7 +415,9 @@ void App::save_dialog() {
   if (ImGui::BeginPopupModal("Replace file?", nullptr, ImGuiWindowFlags_AlwaysAutoResize | ImGuiWindowFlags_NoSavedSettings)) {
     ImGui::Text("%s already exists.", save_path_.c_str());
     ImGui::TextUnformatted("Replace it? Comments in it will be lost.");
-    if (ImGui::Button("Replace", {90, 0})) {
+    const bool replace = ImGui::Button("Replace", {90, 0});
+    replace_button_rect_ = {ImGui::GetItemRectMin(), ImGui::GetItemRectMax()};
+    if (replace) {
       try {
         doc_.save(save_path_);
         status_ = "saved " + save_path_;

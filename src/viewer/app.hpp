@@ -5,6 +5,7 @@
 #include <imgui.h>
 
 #include <cstdint>
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -37,6 +38,9 @@ struct AppOptions {
 class App {
  public:
   App(Document& doc, AppOptions options);
+  ~App();
+  App(const App&) = delete;
+  App& operator=(const App&) = delete;
   /// Builds the whole window for one frame; dt_s is the time since the last frame.
   void frame(double dt_s);
   /// True when something animates or is being dragged (the main loop then does not wait for events).
@@ -63,6 +67,20 @@ class App {
   [[nodiscard]] double plot_t1() const { return tv1_; }
   [[nodiscard]] bool playing() const { return playing_; }
   [[nodiscard]] int selected() const { return selected_; }
+  [[nodiscard]] bool dragging() const { return drag_wp_ >= 0; }
+  [[nodiscard]] float view_yaw() const { return yaw_; }
+  /// Where the save dialog's file field and Save button, and the replace question's Replace
+  /// button were drawn this frame (invalid when not shown), and the file name in the field.
+  [[nodiscard]] Rect save_field_rect() const { return save_field_rect_; }
+  [[nodiscard]] Rect save_button_rect() const { return save_button_rect_; }
+  [[nodiscard]] Rect replace_button_rect() const { return replace_button_rect_; }
+  [[nodiscard]] const std::string& save_path() const { return save_path_; }
+  [[nodiscard]] const std::string& status() const { return status_; }
+  /// Moves waypoint k to q as a drag does: inside one gesture (opened here when none is), with
+  /// only that waypoint's handle updated until end_live_edit().
+  void move_waypoint_live(std::size_t k, const std::vector<double>& q);
+  /// Ends the gesture of move_waypoint_live().
+  void end_live_edit();
   /// Frame time shown in the View tab [ms].
   void set_frame_ms(double ms) { frame_ms_ = ms; }
 
@@ -95,10 +113,11 @@ class App {
   void coords_of_point(const std::vector<double>& q, double t, double c[3]) const;
   void draw_path(ImDrawList* dl);
   void thin_path();
-  void prethin_path();
+  [[nodiscard]] ThinParams thin_params() const;
   std::vector<std::size_t> pre_idx_;  // samples kept by the view-independent thinning
   std::vector<float> pre_val_;        // their colour values
-  std::vector<float> pre_key_;        // what pre_idx_ was computed for
+  ThinParams pre_params_;             // what pre_idx_ was computed for, with pre_generation_
+  std::uint64_t pre_generation_ = ~std::uint64_t(0);
   struct Seg {
     ImVec2 a, b;
     float v;  // colour value
@@ -118,7 +137,8 @@ class App {
 
   Document& doc_;
   AppOptions opt_;
-  Samples samples_;
+  std::shared_ptr<const Samples> samples_p_;  // of the plan shown (built on the planning thread)
+  [[nodiscard]] const Samples& samples() const;
   std::uint64_t seen_generation_ = ~std::uint64_t(0);
   bool have_samples_ = false;
 
@@ -157,6 +177,8 @@ class App {
   std::vector<float> handle_ckey_;  // what handle_c3_ was computed for (with handle_c3_edits_)
   std::uint64_t handle_c3_edits_ = ~std::uint64_t(0);
   std::uint64_t handle_c3_version_ = 0;
+  bool handles_stale_ = false;   // a drag moved one waypoint's coordinates, the pre-selection is older
+  bool drag_cancelled_ = false;  // Escape ended a drag; the mouse button is not released yet
   static constexpr float kHandleReach = 4.0f;  // px: a waypoint is this near its pre-selected one
   static constexpr std::size_t kBlock = 32;
   struct Block {
@@ -200,6 +222,7 @@ class App {
   std::string status_;      // last action's outcome (saved, reloaded, ...)
   bool status_bad_ = false;
   bool open_save_ = false, open_replace_ = false, open_reload_ = false;
+  Rect save_field_rect_, save_button_rect_, replace_button_rect_;
   double frame_ms_ = 0.0;
   bool show_help_ = false;
 };

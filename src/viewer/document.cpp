@@ -2,6 +2,8 @@
 
 #include "document.hpp"
 
+#include <algorithm>
+#include <chrono>
 #include <exception>
 #include <utility>
 
@@ -10,8 +12,41 @@
 
 namespace c2path::viewer {
 
+Document::Result Document::plan_scene(Scene scene, const Derive& derive) {
+  Result r;
+  try {
+    validate_scene(scene);
+    auto p = std::make_shared<Planned>();
+    p->scene = std::move(scene);
+    p->plan = c2path::plan(p->scene);
+    p->report = check_limits(*p->plan.trajectory, p->plan.limits);
+    if (derive) derive(*p);
+    r.planned = std::move(p);
+  } catch (const std::exception& e) {
+    r.error = e.what();
+  }
+  return r;
+}
+
+void Document::show(Result r) {
+  if (!r.planned) {
+    edit_error_ = std::move(r.error);
+    return;
+  }
+  // The plan shown before goes with the next background plan, which frees it on its thread
+  // (freeing a long move takes a frame's time).
+  if (background_ && shown_) retired_.push_back(std::move(shown_));
+  shown_ = std::move(r.planned);
+  ++generation_;
+  ++plans_shown_;
+  edit_error_.clear();
+}
+
 bool Document::load(const std::string& path) {
+  if (job_.valid()) job_.wait();  // a plan of the scene loaded before: not shown
+  job_ = {};
   path_ = path;
+  all_touched_ = true;
   try {
     Scene s = load_scene_file(path);
     auto p = std::make_shared<Planned>();
@@ -22,6 +57,10 @@ bool Document::load(const std::string& path) {
     ++edits_;
     shown_ = std::move(p);
     ++generation_;
+    ++plans_shown_;
+    job_scene_ = std::make_shared<Scene>(*scene_);  // made now, not when a drag starts
+    all_touched_ = false;
+    touched_.clear();
     load_error_.clear();
     edit_error_.clear();
     undo_.clear();
@@ -50,7 +89,7 @@ bool Document::load(const std::string& path) {
 
 void Document::begin_gesture() {
   if (in_gesture_ || !scene_) return;
-  undo_.push_back(Step{*scene_, edits_});
+  undo_.push_back(Step{*scene_, edits_, modified_});
   if (undo_.size() > kMaxUndo) undo_.erase(undo_.begin());
   in_gesture_ = true;
 }
@@ -61,7 +100,19 @@ void Document::end_gesture() {
   if (!undo_.empty() && undo_.back().edits == edits_) undo_.pop_back();  // nothing changed
 }
 
+void Document::changed_waypoint(std::size_t k) {
+  if (!all_touched_ && std::find(touched_.begin(), touched_.end(), k) == touched_.end()) {
+    if (touched_.size() >= 64) all_touched_ = true;
+    else touched_.push_back(k);
+  }
+  ++edits_;
+  dirty_ = true;
+  modified_ = true;
+  redo_.clear();
+}
+
 void Document::changed() {
+  all_touched_ = true;
   ++edits_;
   dirty_ = true;
   modified_ = true;
@@ -69,21 +120,55 @@ void Document::changed() {
 }
 
 bool Document::replan() {
-  if (!dirty_ || !scene_) return false;
+  bool shown_new = false;
+  if (job_.valid() && job_.wait_for(std::chrono::seconds(0)) == std::future_status::ready) {
+    Result r = job_.get();
+    shown_new = r.planned != nullptr;
+    show(std::move(r));
+  }
+  if (!dirty_ || !scene_ || job_.valid()) return shown_new;
   dirty_ = false;
-  try {
-    validate_scene(*scene_);
-    auto p = std::make_shared<Planned>();
-    p->scene = *scene_;
-    p->plan = c2path::plan(p->scene);
-    p->report = check_limits(*p->plan.trajectory, p->plan.limits);
-    shown_ = std::move(p);
-    ++generation_;
-    edit_error_.clear();
-    return true;
-  } catch (const std::exception& e) {
-    edit_error_ = e.what();
-    return false;
+  Derive derive = make_derive_ ? make_derive_() : Derive{};
+  if (!background_) {
+    Result r = plan_scene(*scene_, derive);
+    const bool ok = r.planned != nullptr;
+    show(std::move(r));
+    return ok || shown_new;
+  }
+  sync_job_scene();
+  job_ = std::async(std::launch::async, [scene = job_scene_, derive = std::move(derive), retired = std::move(retired_)]() mutable {
+    retired.clear();
+    return plan_scene(Scene(*scene), derive);  // the copy is made here, off the UI thread
+  });
+  retired_.clear();
+  return shown_new;
+}
+
+void Document::sync_job_scene() {
+  // Copying a long scene (two allocations per waypoint) takes a frame's time, and so does even
+  // comparing it: the copy kept for the planning thread gets only the waypoints changed through
+  // changed_waypoint() since the last plan started, unless something else changed. Only called
+  // while no background plan runs.
+  if (!job_scene_ || all_touched_ || job_scene_->waypoints.size() != scene_->waypoints.size()) {
+    job_scene_ = std::make_shared<Scene>(*scene_);
+  } else {
+    std::vector<Waypoint> kept = std::move(job_scene_->waypoints);
+    std::vector<Waypoint> edited = std::move(scene_->waypoints);
+    scene_->waypoints.clear();
+    *job_scene_ = *scene_;  // everything else (small)
+    scene_->waypoints = std::move(edited);
+    for (std::size_t k : touched_)
+      if (k < kept.size()) kept[k] = scene_->waypoints[k];
+    job_scene_->waypoints = std::move(kept);
+  }
+  touched_.clear();
+  all_touched_ = false;
+}
+
+void Document::finish_planning() {
+  while (job_.valid() || (dirty_ && scene_)) {
+    if (job_.valid()) job_.wait();
+    replan();
   }
 }
 
@@ -142,12 +227,29 @@ void Document::move_waypoint(int k, int dir) {
   end_gesture();
 }
 
+bool Document::cancel_gesture() {
+  if (!in_gesture_ || !scene_) return false;
+  in_gesture_ = false;
+  if (undo_.empty()) return false;
+  Step& step = undo_.back();
+  if (step.edits != edits_) {  // something changed during the gesture: put the scene back
+    scene_ = std::move(step.scene);
+    all_touched_ = true;
+    ++edits_;
+    dirty_ = true;
+    modified_ = step.modified;
+  }
+  undo_.pop_back();
+  return true;
+}
+
 bool Document::undo() {
   end_gesture();
   if (undo_.empty() || !scene_) return false;
-  redo_.push_back(Step{std::move(*scene_), edits_});
+  redo_.push_back(Step{std::move(*scene_), edits_, modified_});
   scene_ = std::move(undo_.back().scene);
   undo_.pop_back();
+  all_touched_ = true;
   ++edits_;
   dirty_ = modified_ = true;
   return true;
@@ -156,9 +258,10 @@ bool Document::undo() {
 bool Document::redo() {
   end_gesture();
   if (redo_.empty() || !scene_) return false;
-  undo_.push_back(Step{std::move(*scene_), edits_});
+  undo_.push_back(Step{std::move(*scene_), edits_, modified_});
   scene_ = std::move(redo_.back().scene);
   redo_.pop_back();
+  all_touched_ = true;
   ++edits_;
   dirty_ = modified_ = true;
   return true;

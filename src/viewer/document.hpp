@@ -6,6 +6,8 @@
 // change. An edit that makes the scene invalid keeps the last valid plan and sets error().
 
 #include <cstdint>
+#include <functional>
+#include <future>
 #include <memory>
 #include <optional>
 #include <string>
@@ -17,11 +19,17 @@
 
 namespace c2path::viewer {
 
-/// A scene with its plan and check: what the viewer draws.
+struct Samples;
+struct PathThin;
+
+/// A scene with its plan and check: what the viewer draws. Immutable once shown.
 struct Planned {
   Scene scene;
   Plan plan;
   Report report;
+  /// Drawing data derived on the planning thread (see Document::set_derive), or null.
+  std::shared_ptr<const Samples> samples;
+  std::shared_ptr<const PathThin> thin;
 };
 
 class Document {
@@ -49,7 +57,7 @@ class Document {
   /// Why the edited scene cannot be planned (shown() is then an earlier version); empty if it can.
   [[nodiscard]] const std::string& edit_error() const noexcept { return edit_error_; }
   /// True when shown() is the plan of the scene as edited now.
-  [[nodiscard]] bool up_to_date() const noexcept { return !dirty_ && edit_error_.empty(); }
+  [[nodiscard]] bool up_to_date() const noexcept { return !dirty_ && !job_.valid() && edit_error_.empty(); }
 
   // ---- edits ----------------------------------------------------------------------------
   /// Starts an edit gesture (a drag, a text field being typed in): the scene as it is now becomes
@@ -60,8 +68,27 @@ class Document {
   [[nodiscard]] bool in_gesture() const noexcept { return in_gesture_; }
   /// Marks the scene changed: it is re-planned at the next replan().
   void changed();
+  /// The same when only waypoint k changed (cheaper for long scenes in the background mode).
+  void changed_waypoint(std::size_t k);
   /// Re-plans if the scene changed since the last call. Returns true when a new plan is shown.
+  /// In the background mode it never waits: a finished background plan is shown, and when the
+  /// scene changed and no plan is running, planning the scene as it is now starts on a worker
+  /// thread (the library is pure: the worker plans its own copy). Edits made meanwhile are
+  /// planned next, so at most one plan runs and the latest scene is always planned in the end.
   bool replan();
+  /// Plans in the background (the viewer) or in replan() itself (default).
+  void set_background(bool on) { background_ = on; }
+  /// A background plan is running.
+  [[nodiscard]] bool planning() const noexcept { return job_.valid(); }
+  /// Waits until the scene as edited now is planned (or found invalid) and shown.
+  void finish_planning();
+  /// Plans finished and shown since loading (any mode).
+  [[nodiscard]] std::uint64_t plans_shown() const noexcept { return plans_shown_; }
+  /// Work that runs after planning and checking, on the planning thread: the viewer samples the
+  /// plan for drawing there. `make` is called on the calling thread when a plan starts and may
+  /// capture what it needs by value.
+  using Derive = std::function<void(Planned&)>;
+  void set_derive(std::function<Derive()> make) { make_derive_ = std::move(make); }
 
   /// Inserts a waypoint after index k (k = -1: before the first), between its neighbours.
   void add_waypoint_after(int k);
@@ -73,8 +100,12 @@ class Document {
 
   bool undo();
   bool redo();
+  /// Ends the gesture started by begin_gesture() and puts the scene back as it was when it
+  /// started, leaving no undo step (Escape during a drag). False when no gesture is open.
+  bool cancel_gesture();
   [[nodiscard]] bool can_undo() const noexcept { return !undo_.empty(); }
   [[nodiscard]] bool can_redo() const noexcept { return !redo_.empty(); }
+  [[nodiscard]] std::size_t undo_depth() const noexcept { return undo_.size(); }
 
   /// Counts edits (changed(), undo, redo, load): a new value means the scene may differ.
   [[nodiscard]] std::uint64_t edits() const noexcept { return edits_; }
@@ -90,6 +121,7 @@ class Document {
   struct Step {
     Scene scene;
     std::uint64_t edits = 0;  // edits_ when the step was taken
+    bool modified = false;    // modified_ then
   };
   std::string path_;
   std::optional<Scene> scene_;
@@ -99,6 +131,22 @@ class Document {
   std::string load_error_, edit_error_;
   bool dirty_ = false, modified_ = false, in_gesture_ = false;
   std::vector<Step> undo_, redo_;
+  // background planning
+  struct Result {
+    std::shared_ptr<Planned> planned;  // null when the scene cannot be planned
+    std::string error;
+  };
+  static Result plan_scene(Scene scene, const Derive& derive);
+  void show(Result r);
+  bool background_ = false;
+  std::future<Result> job_;
+  std::function<Derive()> make_derive_;
+  std::uint64_t plans_shown_ = 0;
+  std::vector<std::shared_ptr<const Planned>> retired_;  // freed by the next background plan
+  std::shared_ptr<Scene> job_scene_;  // what the background plan copies; changed only while none runs
+  void sync_job_scene();
+  std::vector<std::size_t> touched_;  // waypoints changed since the last background plan started
+  bool all_touched_ = true;           // anything else changed since then
 };
 
 }  // namespace c2path::viewer

@@ -68,7 +68,8 @@ const char* kUsage =
     "  --colour limit|speed   what the path is coloured by\n"
     "  --timing               print mean and max frame time at exit\n"
     "  --check-pixels         with --screenshot: fail (exit 3) unless the PNG shows a path and plots\n"
-    "  --selftest-ui          with --screenshot: script mouse and keys (drag, undo, scrub, play, add, delete)\n"
+    "  --selftest-ui          with --screenshot: script mouse and keys (drag, undo, scrub, play, add, delete,\n"
+    "                         Escape during a drag, save over FILE.png.saved.yaml)\n"
     "  --full-redraw          draw every pixel every frame (default: only what changed since the last frame)\n"
     "  --spin                 measurement: orbit the 3D view and play, every frame\n"
     "  --edit-each-frame      measurement: move the middle waypoint a little every frame (re-plans each frame)\n"
@@ -209,6 +210,7 @@ int main(int argc, char** argv) {
   if (headless && a.frames < 0) a.frames = 3;
   if (a.selftest_ui) a.frames = std::max(a.frames, UiSelfTest::kFrames);
   UiSelfTest selftest;
+  if (a.selftest_ui) selftest.set_save_file(a.screenshot + ".saved.yaml");
 
   // The software renderer allocates vertex storage of a few MB every frame; keep such blocks in
   // the heap instead of mapping and zeroing fresh pages each time (measured: a third of a frame).
@@ -275,12 +277,12 @@ int main(int argc, char** argv) {
     else glfwWaitEventsTimeout(0.1);
     const auto t0 = Clock::now();
     const double c0 = cpu_now();
-    if (a.edit_each_frame && doc.has_scene() && !doc.scene().waypoints.empty()) {
-      // As a drag does: one gesture, a new value for one waypoint every frame.
-      doc.begin_gesture();
-      auto& w = doc.edit().waypoints[doc.scene().waypoints.size() / 2];
-      if (!w.q.empty()) w.q[0] += (frame % 2 ? 1e-4 : -1e-4);
-      doc.changed();
+    if (a.edit_each_frame && frame >= 1 && doc.has_scene() && !doc.scene().waypoints.empty()) {
+      // As a drag does (from the second frame: a drag needs a view drawn): one gesture, a new
+      // value for one waypoint every frame.
+      std::vector<double> q = doc.scene().waypoints[doc.scene().waypoints.size() / 2].q;
+      if (!q.empty()) q[0] += (frame % 2 ? 1e-4 : -1e-4);
+      app.move_waypoint_live(doc.scene().waypoints.size() / 2, q);
     }
     const double dt = std::chrono::duration<double>(t0 - last).count();
     last = t0;
@@ -347,9 +349,10 @@ int main(int argc, char** argv) {
     }
     const double k = double(frame_ms.size() - skip);
     std::printf("frame time over %zu frames (first %zu excluded, first %.1f ms): mean %.2f ms, max %.2f ms; UI build mean %.2f ms; "
-                "process CPU per frame (all threads) %.2f ms; %.1f%% of the pixels redrawn per frame; %d vertices, %d draw calls, %s\n",
+                "process CPU per frame (all threads) %.2f ms; %.1f%% of the pixels redrawn per frame; %d vertices, %d draw calls, %s; "
+                "%llu plans shown after the first\n",
                 frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k, csum / k, 100.0 * rsum / k, io.MetricsRenderVertices,
-                draw_calls, app.stats().c_str());
+                draw_calls, app.stats().c_str(), static_cast<unsigned long long>(doc.plans_shown() - 1));
   }
   presenter.release();
   ImGui_ImplOpenGL3_Shutdown();

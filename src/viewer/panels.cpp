@@ -89,7 +89,7 @@ void App::waypoint_table() {
           if (ImGui::InputDouble(id, &v, 0.0, 0.0, "%.6g") && std::isfinite(v) && v != cur) {
             doc_.begin_gesture();
             apply(v);
-            doc_.changed();
+            doc_.changed_waypoint(std::size_t(k));
           }
           if (ImGui::IsItemActivated()) selected_ = k;
           if (ImGui::IsItemDeactivated()) doc_.end_gesture();
@@ -115,7 +115,7 @@ void App::waypoint_table() {
         if (ImGui::Checkbox("##stop", &stop)) {
           doc_.begin_gesture();
           doc_.edit().waypoints[std::size_t(k)].stop = stop;
-          doc_.changed();
+          doc_.changed_waypoint(std::size_t(k));
           doc_.end_gesture();
         }
         ImGui::PopID();
@@ -325,7 +325,7 @@ void App::view_tab() {
   }
 
   ImGui::TextColored(ImColor(col::kCaution), "Display");
-  ImGui::Text("samples drawn from: %zu   path segments after thinning: %zu", samples_.n, drawn_segments_);
+  ImGui::Text("samples drawn from: %zu   path segments after thinning: %zu", samples().n, drawn_segments_);
   ImGui::Text("frame time %.2f ms", frame_ms_);
   ImGui::TextColored(ImColor(col::kTextDim), "X, Y, Z mapping and colour: above the 3D view.");
 }

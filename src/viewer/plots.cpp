@@ -92,7 +92,7 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
   dl->PushClipRect(r.min, r.max, true);
 
   // Vertical range: the data, and the limits when they are not far off the data.
-  double lo = samples_.lo[d][axis], hi = samples_.hi[d][axis];
+  double lo = samples().lo[d][axis], hi = samples().hi[d][axis];
   std::optional<double> lmin, lmax;
   if (d == 0) { lmin = ax.min; lmax = ax.max; }
   else if (auto l = limit_of(ax, d)) { lmin = -*l; lmax = *l; }
@@ -133,7 +133,7 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
   if (zoomed_) {
     for (int j = 0; j <= cols; ++j)
       line_.push_back({r.min.x + float(j) * w / float(cols),
-                       Y(zoom_vals_[(std::size_t(j) * samples_.axes + axis) * 4 + std::size_t(d)])});
+                       Y(zoom_vals_[(std::size_t(j) * samples().axes + axis) * 4 + std::size_t(d)])});
   } else {
     // Each pixel column covers the min..max of its samples and the last value of the column
     // before (so nothing between samples is lost and the curve stays connected). Where that
@@ -142,7 +142,7 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
     // zigzag line.
     // Neighbouring bars whose ends differ by less than 1.5 px are merged into one rectangle: a
     // software renderer fills one wide rectangle far faster than many 2 px ones.
-    const float* sv = samples_.series(d, axis);
+    const float* sv = samples().series(d, axis);
     float prev_last = sv[col_index_[0]];
     bool bar_open = false;
     ImVec2 bar_min{0, 0}, bar_max{0, 0};
@@ -158,7 +158,7 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       line_.clear();
     };
     // The min..max per column depends only on the samples and the time range: kept until they change.
-    Envelope& env = envelopes_[std::size_t(d) * samples_.axes + axis];
+    Envelope& env = envelopes_[std::size_t(d) * samples().axes + axis];
     if (env.generation != seen_generation_ || env.t0 != tv0_ || env.t1 != tv1_ || env.cols != cols) {
       env.generation = seen_generation_;
       env.t0 = tv0_;
@@ -169,8 +169,8 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       env.last.resize(std::size_t(cols));
       for (int j = 0; j < cols; ++j) {
         const std::size_t i0 = col_index_[std::size_t(j)], i1 = std::max(col_index_[std::size_t(j) + 1], i0 + 1);
-        samples_.tree[d][axis].query(i0, i1, env.lo[std::size_t(j)], env.hi[std::size_t(j)]);
-        env.last[std::size_t(j)] = sv[std::min(i1, samples_.n) - 1];
+        samples().tree[d][axis].query(i0, i1, env.lo[std::size_t(j)], env.hi[std::size_t(j)]);
+        env.last[std::size_t(j)] = sv[std::min(i1, samples().n) - 1];
       }
     }
     for (int j = 0; j < cols; ++j) {
@@ -217,7 +217,7 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
   // Labels: the exact peak from the report, the scale, off-scale limits. Values far below the
   // axis's range are shown as 0 (display only).
   const AxisPeaks& pk = p.report.peaks[axis];
-  const double tiny = 1e-9 * std::max(std::abs(samples_.hi[d][axis]), std::abs(samples_.lo[d][axis]));
+  const double tiny = 1e-9 * std::max(std::abs(samples().hi[d][axis]), std::abs(samples().lo[d][axis]));
   auto shown_num = [&](double v, int digits) { return fmt::num(std::abs(v) < tiny ? 0.0 : v, digits); };
   const std::string unit = (ax.unit.empty() ? "unit" : ax.unit) + kPer[d];
   std::string lab;
@@ -287,7 +287,7 @@ void App::plots_panel(const ImVec2& pos, const ImVec2& size) {
   for (int d = 0; d < 4; ++d)
     if (show_deriv_[d]) shown[nd++] = d;
   if (nd == 0) { shown[0] = 0; nd = 1; }
-  const std::size_t axes = samples_.axes;
+  const std::size_t axes = samples().axes;
   const float gutter = 78.0f, head = 16.0f, foot = 18.0f, gap = 6.0f;
   const ImVec2 avail = ImGui::GetContentRegionAvail();
   const float row_h = std::max(54.0f, std::floor((avail.y - head - foot) / float(axes)) - 3.0f);
@@ -302,7 +302,7 @@ void App::plots_panel(const ImVec2& pos, const ImVec2& size) {
 
   // Per-column data shared by every cell: sample index ranges, or exact values when zoomed in.
   plot_cols_ = std::max(1, int(cell_w));
-  const auto& T = samples_.t;
+  const auto& T = samples().t;
   const auto i_begin = std::size_t(std::lower_bound(T.begin(), T.end(), tv0_) - T.begin());
   const auto i_end = std::size_t(std::upper_bound(T.begin(), T.end(), tv1_) - T.begin());
   zoomed_ = i_end - i_begin < std::size_t(2 * plot_cols_);
@@ -322,7 +322,7 @@ void App::plots_panel(const ImVec2& pos, const ImVec2& size) {
       const double t = tv0_ + (tv1_ - tv0_) * double(j) / double(plot_cols_);
       col_index_[std::size_t(j)] = std::size_t(std::lower_bound(T.begin() + long(i_begin), T.begin() + long(i_end), t) - T.begin());
     }
-    col_index_.back() = std::max(col_index_.back(), std::min(i_end, samples_.n));
+    col_index_.back() = std::max(col_index_.back(), std::min(i_end, samples().n));
     if (col_index_.back() <= col_index_.front()) col_index_.back() = col_index_.front() + 1;
   }
 

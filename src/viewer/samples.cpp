@@ -105,4 +105,77 @@ void Samples::build(const Planned& planned, std::size_t budget) {
     }
 }
 
+PathThin thin_path_3d(const Samples& s, const ThinParams& prm) {
+  PathThin out;
+  out.params = prm;
+  const std::size_t n = s.n;
+  if (n == 0) return out;
+  int map[3];
+  for (int k = 0; k < 3; ++k) map[k] = prm.map[k] >= int(s.axes) ? -1 : prm.map[k];
+  std::vector<float> value(n);
+  if (prm.speed) {
+    std::vector<float> speed(n, 0.0f);
+    for (int c = 0; c < 3; ++c) {
+      if (map[c] < 0) continue;
+      const float* v = s.series(1, std::size_t(map[c]));
+      for (std::size_t i = 0; i < n; ++i) speed[i] += v[i] * v[i];
+    }
+    float peak = 0.0f;
+    for (auto& v : speed) {
+      v = std::sqrt(v);
+      peak = std::max(peak, v);
+    }
+    const float inv = peak > 0 ? 1.0f / peak : 0.0f;
+    for (std::size_t i = 0; i < n; ++i) value[i] = std::min(1.0f, speed[i] * inv);
+  } else {
+    for (std::size_t i = 0; i < n; ++i) value[i] = s.pct[i] > 100.25f ? 1.5f : std::min(1.0f, s.pct[i] / 100.0f);
+  }
+  auto level = [](float v) { return v > 1.0f ? 1000 : int(v * 40.0f); };
+  std::vector<float> c3(3 * n, 0.0f);
+  for (int k = 0; k < 3; ++k) {
+    if (map[k] == -1) continue;
+    for (std::size_t i = 0; i < n; ++i) {
+      const double v = map[k] >= 0 ? double(s.q[0][std::size_t(map[k]) * n + i]) : s.t[i];
+      c3[3 * i + std::size_t(k)] = float((v - prm.centre[k]) / prm.half[k]);
+    }
+  }
+  const float scale_hi = std::exp2((prm.step + 1.0f) * 0.5f);
+  const float eps = 0.3f / scale_hi, eps2 = eps * eps;
+  auto dist2_seg = [&](std::size_t p, std::size_t a, std::size_t b) {
+    const float* P = &c3[3 * p];
+    const float* A = &c3[3 * a];
+    const float* B = &c3[3 * b];
+    const float ab[3] = {B[0] - A[0], B[1] - A[1], B[2] - A[2]}, ap[3] = {P[0] - A[0], P[1] - A[1], P[2] - A[2]};
+    const float l2 = ab[0] * ab[0] + ab[1] * ab[1] + ab[2] * ab[2];
+    float t = l2 > 0 ? (ap[0] * ab[0] + ap[1] * ab[1] + ap[2] * ab[2]) / l2 : 0.0f;
+    t = std::clamp(t, 0.0f, 1.0f);
+    const float d[3] = {ap[0] - t * ab[0], ap[1] - t * ab[1], ap[2] - t * ab[2]};
+    return d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
+  };
+  auto& idx = out.idx;
+  idx.push_back(0);
+  std::size_t a = 0, i = 1;
+  while (i < n) {
+    const std::size_t j = i + 1;
+    if (j >= n) break;
+    bool fits = level(value[j]) == level(value[a]) && j - a <= 64;
+    for (std::size_t p = a + 1; fits && p < j; ++p) fits = dist2_seg(p, a, j) <= eps2;
+    if (fits) i = j;
+    else {
+      idx.push_back(i);
+      a = i;
+      i = a + 1;
+    }
+  }
+  if (idx.back() != n - 1) idx.push_back(n - 1);
+  out.val.resize(idx.size());
+  for (std::size_t k = 0; k < idx.size(); ++k) {  // a kept point carries the largest value of its run
+    float v = value[idx[k]];
+    if (k > 0)
+      for (std::size_t p = idx[k - 1] + 1; p < idx[k]; ++p) v = std::max(v, value[p]);
+    out.val[k] = v;
+  }
+  return out;
+}
+
 }  // namespace c2path::viewer

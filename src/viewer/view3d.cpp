@@ -40,11 +40,11 @@ void App::frame_all() {
   for (int c = 0; c < 3; ++c) {
     const int m = map_[c];
     if (m >= 0) {
-      lo[c] = samples_.lo[0][m];
-      hi[c] = samples_.hi[0][m];
+      lo[c] = samples().lo[0][m];
+      hi[c] = samples().hi[0][m];
     } else if (m == kMapTime) {
-      lo[c] = samples_.t.front();
-      hi[c] = samples_.t.back();
+      lo[c] = samples().t.front();
+      hi[c] = samples().t.back();
     } else {
       lo[c] = hi[c] = 0.0;
     }
@@ -66,8 +66,8 @@ void App::coords_of_sample(std::size_t i, double c[3]) const {
   for (int k = 0; k < 3; ++k) {
     const int m = map_[k];
     double v = 0.0;
-    if (m >= 0) v = samples_.q[0][std::size_t(m) * samples_.n + i];
-    else if (m == kMapTime) v = samples_.t[i];
+    if (m >= 0) v = samples().q[0][std::size_t(m) * samples().n + i];
+    else if (m == kMapTime) v = samples().t[i];
     c[k] = m == kMapNone ? 0.0 : (v - centre_[k]) / half_[k];
   }
 }
@@ -106,11 +106,11 @@ void App::update_speed() {
   if (speed_generation_ == seen_generation_ && std::equal(map_, map_ + 3, speed_map_)) return;
   speed_generation_ = seen_generation_;
   std::copy(map_, map_ + 3, speed_map_);
-  const std::size_t n = samples_.n;
+  const std::size_t n = samples().n;
   speed_.assign(n, 0.0f);
   for (int c = 0; c < 3; ++c) {
     if (map_[c] < 0) continue;
-    const float* v = samples_.series(1, std::size_t(map_[c]));
+    const float* v = samples().series(1, std::size_t(map_[c]));
     for (std::size_t i = 0; i < n; ++i) speed_[i] += v[i] * v[i];
   }
   speed_max_ = 0.0f;
@@ -150,7 +150,7 @@ void App::draw_grid(ImDrawList* dl) {
 }
 
 void App::draw_path(ImDrawList* dl) {
-  const std::size_t n = samples_.n;
+  const std::size_t n = samples().n;
   if (n < 2) return;
   // The thinned path depends only on the plan, the mapping, the camera and the colouring: when
   // none changed since the last frame, the segments are drawn again as they are.
@@ -178,76 +178,28 @@ void App::draw_path(ImDrawList* dl) {
   }
 }
 
-void App::prethin_path() {
-  // Object-space thinning, independent of the view direction: an orthographic view maps a 3D
-  // offset e to at most |e| * scale pixels, so dropping points that lie within eps of the chord
-  // between kept points (eps = 0.3 px / the largest scale of the current zoom step) keeps the
-  // drawn error below 0.3 px for every orientation. Runs are capped at 64 samples (bounded cost:
-  // each extension re-checks the run) and end where the colour level changes.
-  const std::size_t n = samples_.n;
-  value_.resize(n);
-  if (colour_ == ColourBy::kSpeed) {
-    update_speed();
-    const float inv = speed_max_ > 0 ? 1.0f / speed_max_ : 0.0f;
-    for (std::size_t i = 0; i < n; ++i) value_[i] = std::min(1.0f, speed_[i] * inv);
-  } else {
-    for (std::size_t i = 0; i < n; ++i) value_[i] = samples_.pct[i] > 100.25f ? 1.5f : std::min(1.0f, samples_.pct[i] / 100.0f);
-  }
-  auto level = [](float v) { return v > 1.0f ? 1000 : int(v * 40.0f); };
-  std::vector<float> c3(3 * n, 0.0f);
-  for (int k = 0; k < 3; ++k) {
-    if (map_[k] == kMapNone) continue;
-    for (std::size_t i = 0; i < n; ++i) {
-      const double v = map_[k] >= 0 ? double(samples_.q[0][std::size_t(map_[k]) * n + i]) : samples_.t[i];
-      c3[3 * i + std::size_t(k)] = float((v - centre_[k]) / half_[k]);
-    }
-  }
-  const float step = std::floor(std::log2(std::max(scale_, 1e-6f)) * 2.0f);
-  const float scale_hi = std::exp2((step + 1.0f) * 0.5f);
-  const float eps = 0.3f / scale_hi, eps2 = eps * eps;
-  auto dist2_seg = [&](std::size_t p, std::size_t a, std::size_t b) {
-    const float* P = &c3[3 * p];
-    const float* A = &c3[3 * a];
-    const float* B = &c3[3 * b];
-    const float ab[3] = {B[0] - A[0], B[1] - A[1], B[2] - A[2]}, ap[3] = {P[0] - A[0], P[1] - A[1], P[2] - A[2]};
-    const float l2 = ab[0] * ab[0] + ab[1] * ab[1] + ab[2] * ab[2];
-    float t = l2 > 0 ? (ap[0] * ab[0] + ap[1] * ab[1] + ap[2] * ab[2]) / l2 : 0.0f;
-    t = std::clamp(t, 0.0f, 1.0f);
-    const float d[3] = {ap[0] - t * ab[0], ap[1] - t * ab[1], ap[2] - t * ab[2]};
-    return d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
-  };
-  pre_idx_.clear();
-  pre_idx_.push_back(0);
-  std::size_t a = 0, i = 1;
-  while (i < n) {
-    const std::size_t j = i + 1;
-    if (j >= n) break;
-    bool fits = level(value_[j]) == level(value_[a]) && j - a <= 64;
-    for (std::size_t p = a + 1; fits && p < j; ++p) fits = dist2_seg(p, a, j) <= eps2;
-    if (fits) i = j;
-    else {
-      pre_idx_.push_back(i);
-      a = i;
-      i = a + 1;
-    }
-  }
-  if (pre_idx_.back() != n - 1) pre_idx_.push_back(n - 1);
-  pre_val_.resize(pre_idx_.size());
-  for (std::size_t k = 0; k < pre_idx_.size(); ++k) {  // a kept point carries the largest value of its run
-    float v = value_[pre_idx_[k]];
-    if (k > 0)
-      for (std::size_t p = pre_idx_[k - 1] + 1; p < pre_idx_[k]; ++p) v = std::max(v, value_[p]);
-    pre_val_[k] = v;
-  }
+ThinParams App::thin_params() const {
+  ThinParams tp;
+  std::copy(map_, map_ + 3, tp.map);
+  tp.speed = colour_ == ColourBy::kSpeed;
+  std::copy(centre_, centre_ + 3, tp.centre);
+  std::copy(half_, half_ + 3, tp.half);
+  tp.step = std::floor(std::log2(std::max(scale_, 1e-6f)) * 2.0f);
+  return tp;
 }
 
 void App::thin_path() {
-  const std::vector<float> pre_key = {float(seen_generation_), float(map_[0]), float(map_[1]), float(map_[2]), float(colour_),
-                                      float(centre_[0]), float(centre_[1]), float(centre_[2]), float(half_[0]), float(half_[1]),
-                                      float(half_[2]), std::floor(std::log2(std::max(scale_, 1e-6f)) * 2.0f)};
-  if (pre_key != pre_key_) {
-    pre_key_ = pre_key;
-    prethin_path();
+  // The view-independent thinning: usually done on the planning thread with the parameters of
+  // the frame the plan started in (see App::App); again here when they changed since.
+  const ThinParams tp = thin_params();
+  if (!(tp == pre_params_) || pre_generation_ != seen_generation_) {
+    const Planned* p = doc_.shown();
+    std::shared_ptr<const PathThin> thin = p ? p->thin : nullptr;
+    if (!thin || !(thin->params == tp) || p->samples != samples_p_) thin = std::make_shared<const PathThin>(thin_path_3d(samples(), tp));
+    pre_params_ = tp;
+    pre_generation_ = seen_generation_;
+    pre_idx_ = thin->idx;
+    pre_val_ = thin->val;
   }
   const std::size_t n = pre_idx_.size();
   proj_.resize(n);
@@ -312,6 +264,35 @@ void App::thin_path() {
   }
   if (last != anchor) segs.push_back({proj_[anchor], proj_[last], run_max});
   drawn_segments_ = segs.size();
+}
+
+void App::move_waypoint_live(std::size_t k, const std::vector<double>& q) {
+  if (!doc_.has_scene() || k >= doc_.scene().waypoints.size() || q.size() != doc_.scene().waypoints[k].q.size()) return;
+  if (q == doc_.scene().waypoints[k].q) return;
+  doc_.begin_gesture();  // no-op inside the gesture already open
+  // Only this waypoint moves: its normalised coordinates are updated alone (the others and the
+  // handle pre-selection are kept until the gesture ends).
+  const bool coords_current = handle_c3_edits_ == doc_.edits() && 3 * k + 2 < handle_c3_.size();
+  Waypoint& w = doc_.edit().waypoints[k];
+  w.q = q;
+  doc_.changed_waypoint(k);
+  if (coords_current) {
+    const Planned* p = doc_.shown();
+    const bool times_ok = p && std::size_t(p->plan.waypoint_times.size()) == doc_.scene().waypoints.size();
+    double c[3];
+    coords_of_point(w.q, times_ok ? p->plan.waypoint_times[Index(k)] : w.t.value_or(0.0), c);
+    for (int j = 0; j < 3; ++j) handle_c3_[3 * k + std::size_t(j)] = float(c[j]);
+    handle_c3_edits_ = doc_.edits();
+    handles_stale_ = true;
+  }
+}
+
+void App::end_live_edit() {
+  doc_.end_gesture();
+  if (handles_stale_) {
+    handles_stale_ = false;
+    ++handle_c3_version_;
+  }
 }
 
 ImVec2 App::handle_pos(std::size_t k) const {
@@ -718,6 +699,15 @@ void App::view_panel(const ImVec2& pos, const ImVec2& size) {
     drag_mouse0_ = io.MousePos;
     doc_.begin_gesture();
   }
+  if (drag_wp_ >= 0 && ImGui::IsKeyPressed(ImGui::GetKeyIndex(ImGuiKey_Escape), false)) {
+    // Escape: the waypoint goes back where it was and the drag leaves no undo step. The mouse
+    // button is still down: it does nothing more until released.
+    doc_.cancel_gesture();
+    end_live_edit();
+    drag_wp_ = -1;
+    drag_cancelled_ = true;
+  }
+  if (drag_cancelled_ && !ImGui::IsMouseDown(0)) drag_cancelled_ = false;
   if (drag_wp_ >= 0) {
     if (ImGui::IsMouseDown(0) && drag_wp_ < int(doc_.scene().waypoints.size())) {
       const float dx = (io.MousePos.x - drag_mouse0_.x) / scale_, dy = -(io.MousePos.y - drag_mouse0_.y) / scale_;
@@ -726,23 +716,18 @@ void App::view_panel(const ImVec2& pos, const ImVec2& size) {
       // World directions of the screen's right and up vectors (rows of the view rotation).
       const float right[3] = {cy, -sy, 0.0f};
       const float upv[3] = {sp * sy, sp * cy, cp};
-      Waypoint& w = doc_.edit().waypoints[std::size_t(drag_wp_)];
-      bool moved = false;
+      std::vector<double> q = doc_.scene().waypoints[std::size_t(drag_wp_)].q;
       for (int c = 0; c < 3; ++c) {
         const int m = map_[c];
-        if (m < 0 || std::size_t(m) >= w.q.size()) continue;
-        const double v = drag_q0_[std::size_t(m)] + double(dx * right[c] + dy * upv[c]) * half_[c];
-        if (v != w.q[std::size_t(m)]) {
-          w.q[std::size_t(m)] = v;
-          moved = true;
-        }
+        if (m < 0 || std::size_t(m) >= q.size()) continue;
+        q[std::size_t(m)] = drag_q0_[std::size_t(m)] + double(dx * right[c] + dy * upv[c]) * half_[c];
       }
-      if (moved) doc_.changed();
+      move_waypoint_live(std::size_t(drag_wp_), q);
     } else {
-      doc_.end_gesture();
+      end_live_edit();
       drag_wp_ = -1;
     }
-  } else if (active) {
+  } else if (active && !drag_cancelled_) {
     const ImVec2 d = io.MouseDelta;
     if (ImGui::IsMouseDown(0) && is_3d()) {
       yaw_ += d.x * 0.008f;
