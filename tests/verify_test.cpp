@@ -366,3 +366,31 @@ TEST_CASE("verify: unreadable input is one line FILE:LINE:COL: error, exit 2", "
   CHECK(std::count(out.begin(), out.end(), '\n') == 1);
   fs::remove_all(d);
 }
+
+TEST_CASE("verify: keyframe times are checked with holds too (arrival at t, still there at t + hold)", "[verify]") {
+  // scenes/pick_place_stop.yaml: waypoint 3 is keyed at t 2.4 with a 0.6 s hold, waypoint 6 at
+  // 6.4 with 0.8 s. The move reaches each waypoint at its own t and leaves when the hold ends.
+  const std::string path = std::string(C2PATH_SCENES) + "/pick_place_stop.yaml";
+  const Scene s = load_scene_file(path);
+  ExportOptions o;
+  o.rate_hz = 100;
+  const std::string csv = csv_of(s, o);
+  const VerifyResult ok = verify_text(s, csv, "pick.csv");
+  CHECK(ok.ok);
+  for (const auto& n : ok.notes) CHECK(n.find("keyframe times not checked") == std::string::npos);
+  // The same file against a scene whose first hold lasts 0.9 s: at t 3.3 the file has long left
+  // waypoint 3 (it leaves at 3.0), so the hold's end fails; the finding names the hold.
+  std::string yaml = slurp(path);
+  const std::string from = "stop: true, hold: 0.6}";
+  REQUIRE(yaml.find(from) != std::string::npos);
+  yaml.replace(yaml.find(from), from.size(), "stop: true, hold: 0.9}");
+  const VerifyResult r = verify_text(load_scene_text(yaml, "longer_hold.yaml"), csv, "pick.csv");
+  REQUIRE_FALSE(r.ok);
+  bool hold_end = false;
+  for (const auto& f : r.findings)
+    if (f.check == "keyframe" && f.message.find("waypoint 3's hold ends at t 3.3") != std::string::npos) {
+      hold_end = true;
+      CHECK(f.row == 330);  // the first row at or after t = 3.3 s at 100 Hz
+    }
+  CHECK(hold_end);
+}

@@ -65,7 +65,13 @@ struct Verifier::Impl {
   std::size_t next_wp = 1;
   // Keyframes mode: waypoint k is reached at its time t_k (relative to the first waypoint).
   bool keyed = false;
-  std::size_t next_key = 1;
+  struct Key {
+    double t;           // [s], scene time
+    std::size_t wp;     // waypoint index
+    bool hold_end;      // the end of that waypoint's hold
+  };
+  std::vector<Key> keys;
+  std::size_t next_key = 0;
   bool pending = false;  // ring holds a row whose waypoint match waits for its successor
   std::size_t last_match_row = 0;
 
@@ -139,8 +145,15 @@ struct Verifier::Impl {
     }
     if (s.timing.mode == TimingMode::kKeyframes) {
       keyed = true;
-      for (const auto& w : s.waypoints) keyed = keyed && w.t && w.hold_s == 0.0;
-      if (!keyed) res.notes.push_back("keyframe times not checked (a waypoint has a hold)");
+      for (const auto& w : s.waypoints) keyed = keyed && w.t;
+      // Keys in time order: a waypoint is reached at its t and, with a hold, is still there when
+      // the hold ends (the next waypoint's t comes after that; the scene loader makes sure).
+      if (keyed)
+        for (std::size_t k = 1; k < s.waypoints.size(); ++k) {
+          const Waypoint& w = s.waypoints[k];
+          keys.push_back({*w.t, k, false});
+          if (w.hold_s > 0.0 && k + 1 < s.waypoints.size()) keys.push_back({*w.t + w.hold_s, k, true});
+        }
     }
   }
 
@@ -355,9 +368,10 @@ struct Verifier::Impl {
     const Row &p = at(1), &r = at(0);
     const double t0 = scene.waypoints.front().t.value_or(0.0);
     const double tp = p.t - res.t_first + t0, tr = r.t - res.t_first + t0;
-    while (next_key < scene.waypoints.size() && *scene.waypoints[next_key].t <= tr) {
-      const Waypoint& wk = scene.waypoints[next_key];
-      const double tk = *wk.t;
+    while (next_key < keys.size() && keys[next_key].t <= tr) {
+      const Key& key = keys[next_key];
+      const Waypoint& wk = scene.waypoints[key.wp];
+      const double tk = key.t;
       const double h = tr - tp;
       const double s = std::clamp((tk - tp) / h, 0.0, 1.0);
       for (std::size_t a = 0; a < m; ++a) {
@@ -368,7 +382,8 @@ struct Verifier::Impl {
                            kTrust * (std::abs(wk.q[a]) + std::abs(tr) * std::abs(r.q[a] - p.q[a]) / h);
         if (std::abs(lin - wk.q[a]) > tol) {
           add(r.index, r.line, scene.axes[a].name, "keyframe",
-              "waypoint " + std::to_string(next_key + 1) + " is keyed at t " + fmt(tk) + " s, where the file is at " + fmt(lin) +
+              "waypoint " + std::to_string(key.wp + 1) + (key.hold_end ? "'s hold ends" : " is keyed") + " at t " + fmt(tk) +
+                  " s, where the file is at " + fmt(lin) +
                   " " + unit(a, 0) + " (linear between rows " + std::to_string(p.index) + " and " + std::to_string(r.index) +
                   "), the scene says " + fmt(wk.q[a]) + " (allowed " + fmt(tol) + ")");
           break;
