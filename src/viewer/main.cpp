@@ -50,7 +50,7 @@ void glfw_error(int code, const char* what) {
 }
 
 struct Args {
-  std::string scene, screenshot, tab, colour = "limit";
+  std::string scene, screenshot, tab, colour = "limit", same_as;
   int frames = -1, width = 1280, height = 800;
   double time_s = -1.0;
   bool timing = false, full_redraw = false, check_pixels = false, edit_each_frame = false, selftest_ui = false, spin = false;
@@ -70,6 +70,7 @@ const char* kUsage =
     "  --check-pixels         with --screenshot: fail (exit 3) unless the PNG shows a path and plots\n"
     "  --selftest-ui          with --screenshot: script mouse and keys (drag, undo, scrub, play, add, delete,\n"
     "                         Escape during a drag, save over FILE.png.saved.yaml)\n"
+    "  --same-as REF.png      with --screenshot: fail (exit 5) unless the PNG has exactly the pixels of REF.png\n"
     "  --full-redraw          draw every pixel every frame (default: only what changed since the last frame)\n"
     "  --spin                 measurement: orbit the 3D view and play, every frame\n"
     "  --edit-each-frame      measurement: move the middle waypoint a little every frame (re-plans each frame)\n"
@@ -133,6 +134,37 @@ bool check_pixels(const std::string& file, const Rect& view, const Rect& plots, 
   return ok;
 }
 
+/// True when two PNG files hold the same pixels; otherwise says how many differ and where.
+bool same_pixels(const std::string& file, const std::string& ref) {
+  int w = 0, h = 0, n = 0, rw = 0, rh = 0, rn = 0;
+  unsigned char* a = stbi_load(file.c_str(), &w, &h, &n, 3);
+  unsigned char* b = stbi_load(ref.c_str(), &rw, &rh, &rn, 3);
+  bool ok = a && b && w == rw && h == rh;
+  if (!ok) std::fprintf(stderr, "c2path-view: pixel comparison: cannot read both %s and %s at the same size\n", file.c_str(), ref.c_str());
+  if (ok) {
+    long differ = 0;
+    int x0 = w, y0 = h, x1 = -1, y1 = -1;
+    for (int y = 0; y < h; ++y)
+      for (int x = 0; x < w; ++x) {
+        const std::size_t i = (std::size_t(y) * std::size_t(w) + std::size_t(x)) * 3;
+        if (std::memcmp(a + i, b + i, 3) != 0) {
+          ++differ;
+          x0 = std::min(x0, x);
+          y0 = std::min(y0, y);
+          x1 = std::max(x1, x);
+          y1 = std::max(y1, y);
+        }
+      }
+    ok = differ == 0;
+    if (ok) std::printf("pixels the same as %s\n", ref.c_str());
+    else
+      std::fprintf(stderr, "c2path-view: %ld pixels differ from %s, within x %d..%d, y %d..%d\n", differ, ref.c_str(), x0, x1, y0, y1);
+  }
+  if (a) stbi_image_free(a);
+  if (b) stbi_image_free(b);
+  return ok;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -185,6 +217,10 @@ int main(int argc, char** argv) {
       a.colour = v;
     } else if (s == "--timing") {
       a.timing = true;
+    } else if (s == "--same-as") {
+      const char* v = value("--same-as");
+      if (!v) return usage_error("--same-as needs a PNG file");
+      a.same_as = v;
     } else if (s == "--full-redraw") {
       a.full_redraw = true;
     } else if (s == "--spin") {
@@ -205,6 +241,7 @@ int main(int argc, char** argv) {
   }
   if (a.scene.empty()) return usage_error("a scene file is required");
   if (a.check_pixels && a.screenshot.empty()) return usage_error("--check-pixels needs --screenshot");
+  if (!a.same_as.empty() && a.screenshot.empty()) return usage_error("--same-as needs --screenshot");
   const bool headless = !a.screenshot.empty();
   if (a.selftest_ui && !headless) return usage_error("--selftest-ui needs --screenshot");
   if (headless && a.frames < 0) a.frames = 3;
@@ -327,6 +364,7 @@ int main(int argc, char** argv) {
         glfwGetWindowSize(win, &ww, &wh);
         const float sx = ww > 0 ? float(fw) / float(ww) : 1.0f, sy = wh > 0 ? float(fh) / float(wh) : 1.0f;
         if (a.check_pixels && !check_pixels(a.screenshot, app.view_rect(), app.plot_rect(), sx, sy)) rc = 3;
+        if (!a.same_as.empty() && !same_pixels(a.screenshot, a.same_as) && rc == 0) rc = 5;
       }
     }
     glfwSwapBuffers(win);
