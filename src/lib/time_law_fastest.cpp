@@ -356,6 +356,9 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   const Grid g = make_grid(path, ua, ub, all_breaks, norm, o);
   const std::size_t n = g.points();
   Topp topp(g, lim);
+  // next_brk[i]: the first path break after grid point i (n - 1 when none is left).
+  std::vector<std::size_t> next_brk(n, n - 1);
+  for (std::size_t i = n - 1; i-- > 0;) next_brk[i] = (i + 1 + 1 < n && g.brk[i + 1]) ? i + 1 : next_brk[i + 1];
   std::vector<double> kappa(n, 1.0);
   auto part = std::make_shared<detail::SmoothPart>();
   part->ua = ua;
@@ -460,9 +463,10 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       o3[1] = bl.v[i] + bl.w[i] * y;
       o3[2] = bl.w[i];
       const long double ly = y;
-      return bl.area[i] + ly * (bl.u[i] + ly * (bl.v[i] / 2.0L + ly * bl.w[i] / 6.0L));
+      return bl.area[i] + ly * (bl.u[i] + ly * (bl.v[i] * 0.5L + ly * bl.w[i] * (1.0L / 6.0L)));
     };
     const double itau = 1.0 / tau;
+    const long double itau_l = 1.0L / (long double)tau;
     std::uint64_t* bits = nullptr;
     double rv = 0.0, ra = 0.0, rj = 0.0;  // exact largest ratios of the current interval
     // One piece of the move: sigma in [0, 1] over time H, u(sigma) = ug + X[0..3] (X[0] >= 0 the
@@ -491,9 +495,11 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
         const double Q3 = std::abs(p3[a]), Q2 = std::abs(p2[a]) + Q3 * xm, Q1 = std::abs(p1[a]) + xm * (std::abs(p2[a]) + 0.5 * Q3 * xm);
         const double screen[3] = {Q1 * U1 * ilim[a * 3], (Q2 * U1 * U1 + Q1 * U2) * ilim[a * 3 + 1],
                                   (Q3 * U1 * U1 * U1 + 3.0 * Q2 * U1 * U2 + Q1 * U3) * ilim[a * 3 + 2]};
-        bool any = false;
-        for (int q = 0; q < 3; ++q) any = any || !(screen[q] < near_q[q] && screen[q] <= 1.0);
-        if (!any) continue;
+        // Which quantities the screen leaves open (branch-free: these tests are hard to predict).
+        const unsigned open = unsigned(!(screen[0] < near_q[0] && screen[0] <= 1.0)) |
+                              unsigned(!(screen[1] < near_q[1] && screen[1] <= 1.0)) << 1 |
+                              unsigned(!(screen[2] < near_q[2] && screen[2] <= 1.0)) << 2;
+        if (open == 0) continue;
         if (!powers) {
           for (int i = 0; i <= 3; ++i)
             for (int j = 0; j <= 3; ++j) x2[i + j] += X[i] * X[j];
@@ -511,7 +517,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
         for (int j = 0; j <= 6; ++j) D[2][j] = double(j + 1) * D[1][j + 1] * iH;
         for (int q = 0; q < 3; ++q) {
           const double il_q = ilim[a * 3 + std::size_t(q)];
-          if (!(il_q > 0.0) || (screen[q] < near_q[q] && screen[q] <= 1.0)) continue;
+          if (!(il_q > 0.0) || !((open >> q) & 1u)) continue;
           const int deg = 8 - q;
           const double* c = D[q];
           // Tighter bounds in turn: sigma^j in [0, 1], so c0 + (sum of the negative c_j) <= p <=
@@ -547,7 +553,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       const long double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
       // u(s + y) = u + u1 y + u2 y^2 / 2 + u3 y^3 / 6 on the interval (u3: the base acceleration
       // entering minus leaving the window, constant here).
-      const double uu = std::min(L, double((ahi - alo) / (long double)tau));
+      const double uu = std::min(L, double((ahi - alo) * itau_l));
       const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
       const double ur = uu + g.u[0];
       while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
@@ -560,8 +566,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
       for (;;) {
         const double u_end = U[0] + U[1] + U[2] + U[3];
         // The next path break passed inside the interval, if any: the piece ends there.
-        std::size_t c = ig + 1;
-        while (c + 1 < n && !g.brk[c]) ++c;
+        const std::size_t c = next_brk[ig];
         const bool split = c + 1 < n && g.u[c] < u_end && g.u[c] > U[0];
         double sg1 = 1.0;
         if (split) {
