@@ -5,6 +5,9 @@
 #include <cassert>
 #include <cstring>
 #include <vector>
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
 
 // Schubfach (R. Giulietti, "The Schubfach way to render doubles"), written from the paper's
 // description. Notation of the paper: a positive double v = c 2^q with an integer c; its rounding
@@ -143,31 +146,11 @@ const Pow10Table& table() {
 
 // ---- Schubfach's decision --------------------------------------------------------------------
 
-// The paper's scaled value: floor(g cp / 2^127), with the lowest bit set when bits 64..126 of
-// g cp are not all zero (a sticky bit for "not an integer"; the paper's rop, which looks at those
-// bits only: the error of g alone stays below 2^64 there). P is the 192-bit product g cp.
-struct U192 {
-  std::uint64_t w0, w1, w2;
-};
-inline U192 mul(const Pow10Entry& g, std::uint64_t cp) {
-  const u128 lo = (u128)g.g_lo * cp;
-  const u128 hi = (u128)g.g_hi * cp;
-  const u128 mid = (hi & ~std::uint64_t(0)) + (lo >> 64);
-  return {std::uint64_t(lo), std::uint64_t(mid), std::uint64_t(hi >> 64) + std::uint64_t(mid >> 64)};
-}
-inline U192 add(const U192& a, const U192& b) {
-  const u128 s0 = (u128)a.w0 + b.w0;
-  const u128 s1 = (u128)a.w1 + b.w1 + std::uint64_t(s0 >> 64);
-  return {std::uint64_t(s0), std::uint64_t(s1), a.w2 + b.w2 + std::uint64_t(s1 >> 64)};
-}
-inline U192 sub(const U192& a, const U192& b) {
-  const u128 d0 = (u128)a.w0 - b.w0;
-  const u128 d1 = (u128)a.w1 - b.w1 - std::uint64_t(d0 >> 127);
-  return {std::uint64_t(d0), std::uint64_t(d1), a.w2 - b.w2 - std::uint64_t(d1 >> 127)};
-}
-inline std::uint64_t round_odd(const U192& p) {
-  constexpr std::uint64_t kMask63 = (std::uint64_t(1) << 63) - 1;
-  return ((p.w2 << 1) | (p.w1 >> 63)) | ((p.w1 & kMask63) != 0 ? 1 : 0);
+// The paper's scaled value: floor(P / 2^127) for a 192-bit P = g cp, with the lowest bit set when
+// bits 64..126 of P are not all zero (a sticky bit for "not an integer"; the paper's rop, which
+// looks at those bits only: the error of g alone stays below 2^64 there). `top` is P >> 64.
+inline std::uint64_t round_odd(u128 top) {
+  return std::uint64_t(top >> 63) | (std::uint64_t(top) << 1 != 0 ? 1 : 0);
 }
 
 constexpr int kQMin = -1074;
@@ -187,15 +170,30 @@ constexpr std::uint64_t kCMin = std::uint64_t(1) << 52;
   }
   const int h = q + floor_log2_pow10(-k) + 2;
   const Pow10Entry& g = tab.e[std::size_t(-k - kMinPow10)];
-  // g (cb << h) and g (cbl << h), g (cbr << h) = g (cb << h) -/+ g ((cb - cbl) << h) exactly: one
-  // product and shifts instead of three products.
-  const U192 pb = mul(g, cb << h);
-  const int s2 = h + 1;  // (cbr - cb) << h = g << (h + 1); 1 <= s2 < 64
-  const U192 d2 = {g.g_lo << s2, (g.g_hi << s2) | (g.g_lo >> (64 - s2)), g.g_hi >> (64 - s2)};
-  const U192 dl = cb - cbl == 2 ? d2 : U192{g.g_lo << h, (g.g_hi << h) | (g.g_lo >> (64 - h)), g.g_hi >> (64 - h)};
-  const std::uint64_t vb = round_odd(pb);
-  const std::uint64_t vbl = round_odd(sub(pb, dl));
-  const std::uint64_t vbr = round_odd(add(pb, d2));
+  // P = g (cb << h) and g (cbl << h), g (cbr << h) = P -/+ g ((cb - cbl) << h) exactly: one
+  // product and shifts instead of three products. Only the bits from 64 up are needed, and the
+  // carry or borrow of the low 64 bits into them.
+  const std::uint64_t cp = cb << h;
+  const u128 lo = (u128)g.g_lo * cp;
+  const u128 top = (u128)g.g_hi * cp + std::uint64_t(lo >> 64);  // P >> 64
+  const auto p0 = std::uint64_t(lo);
+  // g << s as a low word and P-aligned upper 128 bits (1 <= s < 64).
+  auto shifted = [&](int sh, std::uint64_t& d0) {
+    d0 = g.g_lo << sh;
+    return (u128)(g.g_hi >> (64 - sh)) << 64 | ((g.g_hi << sh) | (g.g_lo >> (64 - sh)));
+  };
+  std::uint64_t d0r;
+  const u128 dr = shifted(h + 1, d0r);  // (cbr - cb) << h = 2 << h
+  const std::uint64_t vb = round_odd(top);
+  const std::uint64_t vbr = round_odd(top + dr + (p0 + d0r < p0 ? 1 : 0));
+  std::uint64_t vbl;
+  if (cb - cbl == 2) [[likely]] {
+    vbl = round_odd(top - dr - (p0 < d0r ? 1 : 0));
+  } else {  // the irregular spacing below a power of two: 1 << h
+    std::uint64_t d0l;
+    const u128 dl = shifted(h, d0l);
+    vbl = round_odd(top - dl - (p0 < d0l ? 1 : 0));
+  }
   const std::uint64_t s = vb >> 2;
   // The paper skips the first step for s < 100 (Java's text wants two digits at least); the
   // shortest text needs it there too: for subnormals, s may be that small. The steps are chosen
@@ -273,6 +271,26 @@ inline std::uint64_t digit_bytes(std::uint64_t x) {
 }
 inline void store16(char* p, u128 x) { std::memcpy(p, &x, 16); }
 
+#if defined(__SSE2__)
+// digit_bytes of a and b at once, the same steps in the lanes of one SSE2 register:
+// [a / 10^4, a % 10^4, b / 10^4, b % 10^4] in 32-bit lanes, each split by 100 (y 5243 >> 19 for
+// y < 10^4: the high 16 bits of y 5243, then a shift by 3) into 16-bit lanes, each of those by 10
+// (z 6554 >> 16 for z < 100) into bytes.
+inline void digit_bytes_2(std::uint64_t a, std::uint64_t b, std::uint64_t& wa, std::uint64_t& wb) {
+  const std::uint64_t a_hi = a / 10000, b_hi = b / 10000;
+  const __m128i v = _mm_unpacklo_epi64(_mm_cvtsi64_si128(std::int64_t(a_hi | (a - a_hi * 10000) << 32)),
+                                       _mm_cvtsi64_si128(std::int64_t(b_hi | (b - b_hi * 10000) << 32)));
+  const __m128i q = _mm_srli_epi32(_mm_mulhi_epu16(v, _mm_set1_epi32(5243)), 3);
+  const __m128i r = _mm_sub_epi32(v, _mm_mullo_epi16(q, _mm_set1_epi32(100)));
+  const __m128i w = _mm_or_si128(q, _mm_slli_epi32(r, 16));
+  const __m128i t = _mm_mulhi_epu16(w, _mm_set1_epi16(6554));
+  const __m128i u = _mm_sub_epi16(w, _mm_mullo_epi16(t, _mm_set1_epi16(10)));
+  const __m128i d = _mm_or_si128(t, _mm_slli_epi16(u, 8));
+  wa = std::uint64_t(_mm_cvtsi128_si64(d));
+  wb = std::uint64_t(_mm_cvtsi128_si64(_mm_unpackhi_epi64(d, d)));
+}
+#endif
+
 // The exact decimal digits of a whole double c 2^q (q >= 1, below 10^23) at p; returns the end.
 char* put_exact_integer(char* p, std::uint64_t c, int q) {
   u128 x = (u128)c << q;
@@ -328,7 +346,12 @@ char* write_parts(char* p, const ShortestParts& dec) noexcept {
   const std::uint64_t lo = f - q8 * 100'000'000ULL;
   const std::uint64_t top = q8 / 100'000'000ULL;
   const std::uint64_t mid = q8 - top * 100'000'000ULL;
+#if defined(__SSE2__)
+  std::uint64_t w1, w2;
+  digit_bytes_2(mid, lo, w1, w2);
+#else
   const std::uint64_t w1 = digit_bytes(mid), w2 = digit_bytes(lo);
+#endif
   // Digits of f (n17), its trailing zeros (tz), then the first digit d0 and the next 16 (r, one
   // per byte, zero bytes past the end).
   int n17, tz;
