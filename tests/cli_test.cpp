@@ -532,3 +532,31 @@ TEST_CASE("cli: every demo scene: the exit code agrees with --json ok", "[cli]")
   }
   CHECK(n >= 4);
 }
+
+TEST_CASE("cli: too many samples for one export points at the rate's place in the scene", "[cli]") {
+  TempDir d;
+  // 1000 s at the scene's 1 MHz: 1e9 samples, beyond kMaxExportSamples (2e8); the error points at
+  // the value of `rate` (line 6, column 9). Without an export rate the default 1000 Hz applies, a
+  // 300,000 s move is too long, and the error points at the waypoint list's first entry.
+  write_file(d / "rate.yaml", "format: 1\nrig:\n  axes:\n    - {name: x, unit: m}\nexport:\n  rate: 1000000\nwaypoints:\n"
+                              "  - {t: 0, x: 0}\n  - {t: 1000, x: 1}\n");
+  write_file(d / "long.yaml", "format: 1\nrig:\n  axes:\n    - {name: x, unit: m}\nwaypoints:\n  - {t: 0, x: 0}\n"
+                              "  - {t: 300000, x: 1}\n");
+  write_file(d / "old.csv", "earlier\n");
+  Run r = run_cli(d, "export " + q(d / "rate.yaml") + " -o " + q(d / "old.csv"));
+  CHECK(r.rc == 2);
+  REQUIRE(lines_of(r.err).size() == 1);
+  CHECK(r.err.rfind((d / "rate.yaml").string() + ":6:9: error: ", 0) == 0);
+  CHECK(r.err.find("lower the rate") != std::string::npos);
+  r = run_cli(d, "export " + q(d / "long.yaml") + " -o " + q(d / "old.csv"));
+  CHECK(r.rc == 2);
+  REQUIRE(lines_of(r.err).size() == 1);
+  CHECK(r.err.rfind((d / "long.yaml").string() + ":6:5: error: ", 0) == 0);
+  CHECK(r.err.find("default 1000 Hz") != std::string::npos);
+  // A rate given on the command line is the option's fault: no scene place.
+  r = run_cli(d, "export " + q(d / "long.yaml") + " -o " + q(d / "old.csv") + " --rate 1e6");
+  CHECK(r.rc == 2);
+  CHECK(r.err.rfind("c2path: error: export: ", 0) == 0);
+  CHECK(read_file(d / "old.csv") == "earlier\n");
+  CHECK(d.entries() == std::vector<std::string>{"long.yaml", "old.csv", "rate.yaml"});
+}

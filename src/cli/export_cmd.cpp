@@ -129,7 +129,23 @@ int run_export(const ExportArgs& a) {
         std::fflush(stderr);
       }
     };
-  const ExportResult w = export_to_file(tr, names, o, a.out);
+  // Too many samples for one export: say where the rate comes from (the scene's `export: rate`,
+  // or the move's timing when the default rate applies); a command-line rate names its option.
+  const bool rate_from_scene = !a.rate && !a.spacing && !a.max_error && !o.frames;
+  const ExportResult w = [&] {
+    try {
+      return export_to_file(tr, names, o, a.out);
+    } catch (const Error& e) {
+      if (!e.file().empty() || e.message().find("one export may write") == std::string::npos) throw;
+      if (!rate_from_scene) throw;
+      const Scene& sc = l.scene;
+      if (sc.exports.rate_hz) throw Error(sc.file, sc.exports.rate_loc, e.message());
+      const SourceLoc at = sc.timing.mode == TimingMode::kDuration ? sc.timing.duration_loc
+                           : sc.timing.loc.line > 0                  ? sc.timing.loc
+                                                                     : sc.waypoints.front().loc;
+      throw Error(sc.file, at, e.message() + " (the default " + text(kDefaultRateHz) + " Hz; add 'export: {rate: HZ}' or give --rate)");
+    }
+  }();
   if (tty) std::fprintf(stderr, "\r%*s\r", int(a.out.size()) + 20, "");
   const Reconstruction rec = choice ? choice->error : reconstruction_error(tr, o);
   const std::vector<double> round = rounding_error(o);
