@@ -50,8 +50,7 @@ App::App(Document& doc, AppOptions options) : doc_(doc), opt_(std::move(options)
 }
 
 App::~App() {
-  doc_.set_derive({});
-  doc_.finish_planning();
+  doc_.set_derive({});  // a running plan keeps its own copy of what it needs
 }
 
 const Samples& App::samples() const {

@@ -43,8 +43,9 @@ class App {
   App& operator=(const App&) = delete;
   /// Builds the whole window for one frame; dt_s is the time since the last frame.
   void frame(double dt_s);
-  /// True when something animates or is being dragged (the main loop then does not wait for events).
-  [[nodiscard]] bool busy() const { return playing_ || drag_wp_ >= 0; }
+  /// True when something animates, is being dragged or planned (the main loop then does not
+  /// wait for events, so a finished background plan is shown at once).
+  [[nodiscard]] bool busy() const { return playing_ || drag_wp_ >= 0 || doc_.planning(); }
   /// Where the 3D path canvas and the plot grid were drawn in the last frame.
   [[nodiscard]] Rect view_rect() const { return view_rect_; }
   [[nodiscard]] Rect plot_rect() const { return plot_rect_; }

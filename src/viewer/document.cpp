@@ -14,10 +14,11 @@ namespace c2path::viewer {
 
 Document::Result Document::plan_scene(Scene scene, const Derive& derive) {
   Result r;
+  auto p = std::make_shared<Planned>();
+  p->scene = std::move(scene);
+  r.scene = std::shared_ptr<const Scene>(p, &p->scene);
   try {
-    validate_scene(scene);
-    auto p = std::make_shared<Planned>();
-    p->scene = std::move(scene);
+    validate_scene(p->scene);
     p->plan = c2path::plan(p->scene);
     p->report = check_limits(*p->plan.trajectory, p->plan.limits);
     if (derive) derive(*p);
@@ -29,6 +30,7 @@ Document::Result Document::plan_scene(Scene scene, const Derive& derive) {
 }
 
 void Document::show(Result r) {
+  if (r.scene) base_ = std::move(r.scene);  // what later changes are relative to
   if (!r.planned) {
     edit_error_ = std::move(r.error);
     return;
@@ -58,7 +60,7 @@ bool Document::load(const std::string& path) {
     shown_ = std::move(p);
     ++generation_;
     ++plans_shown_;
-    job_scene_ = std::make_shared<Scene>(*scene_);  // made now, not when a drag starts
+    base_ = std::make_shared<const Scene>(*scene_);  // made now, not when a drag starts
     all_touched_ = false;
     touched_.clear();
     load_error_.clear();
@@ -89,7 +91,7 @@ bool Document::load(const std::string& path) {
 
 void Document::begin_gesture() {
   if (in_gesture_ || !scene_) return;
-  undo_.push_back(Step{*scene_, edits_, modified_});
+  undo_.push_back(Step{snapshot(), edits_, modified_});
   if (undo_.size() > kMaxUndo) undo_.erase(undo_.begin());
   in_gesture_ = true;
 }
@@ -130,40 +132,44 @@ bool Document::replan() {
   dirty_ = false;
   Derive derive = make_derive_ ? make_derive_() : Derive{};
   if (!background_) {
+    touched_.clear();
+    all_touched_ = false;  // changes from now on are relative to the scene planned here
     Result r = plan_scene(*scene_, derive);
     const bool ok = r.planned != nullptr;
     show(std::move(r));
     return ok || shown_new;
   }
-  sync_job_scene();
-  job_ = std::async(std::launch::async, [scene = job_scene_, derive = std::move(derive), retired = std::move(retired_)]() mutable {
+  if (!base_ || all_touched_ || base_->waypoints.size() != scene_->waypoints.size()) {
+    base_ = std::make_shared<const Scene>(*scene_);  // a structural change: one full copy
+    touched_.clear();
+  }
+  Changes ch;
+  ch.base = base_;
+  {
+    std::vector<Waypoint> edited = std::move(scene_->waypoints);
+    scene_->waypoints.clear();
+    ch.rest = *scene_;
+    scene_->waypoints = std::move(edited);
+  }
+  for (std::size_t k : touched_) ch.waypoints.emplace_back(k, scene_->waypoints[k]);
+  touched_.clear();
+  all_touched_ = false;  // from now on: changes relative to this plan's scene (base_ when it is shown)
+  job_ = std::async(std::launch::async, [ch = std::move(ch), derive = std::move(derive), retired = std::move(retired_)]() mutable {
     retired.clear();
-    return plan_scene(Scene(*scene), derive);  // the copy is made here, off the UI thread
+    return plan_changes(ch, derive);
   });
   retired_.clear();
   return shown_new;
 }
 
-void Document::sync_job_scene() {
-  // Copying a long scene (two allocations per waypoint) takes a frame's time, and so does even
-  // comparing it: the copy kept for the planning thread gets only the waypoints changed through
-  // changed_waypoint() since the last plan started, unless something else changed. Only called
-  // while no background plan runs.
-  if (!job_scene_ || all_touched_ || job_scene_->waypoints.size() != scene_->waypoints.size()) {
-    job_scene_ = std::make_shared<Scene>(*scene_);
-  } else {
-    std::vector<Waypoint> kept = std::move(job_scene_->waypoints);
-    std::vector<Waypoint> edited = std::move(scene_->waypoints);
-    scene_->waypoints.clear();
-    *job_scene_ = *scene_;  // everything else (small)
-    scene_->waypoints = std::move(edited);
-    for (std::size_t k : touched_)
-      if (k < kept.size()) kept[k] = scene_->waypoints[k];
-    job_scene_->waypoints = std::move(kept);
-  }
-  touched_.clear();
-  all_touched_ = false;
+Document::Result Document::plan_changes(const Changes& c, const Derive& derive) {
+  Scene s = c.rest;
+  s.waypoints = c.base->waypoints;  // the copy is made here, off the UI thread
+  for (const auto& [k, w] : c.waypoints)
+    if (k < s.waypoints.size()) s.waypoints[k] = w;
+  return plan_scene(std::move(s), derive);
 }
+
 
 void Document::finish_planning() {
   while (job_.valid() || (dirty_ && scene_)) {
@@ -233,7 +239,7 @@ bool Document::cancel_gesture() {
   if (undo_.empty()) return false;
   Step& step = undo_.back();
   if (step.edits != edits_) {  // something changed during the gesture: put the scene back
-    scene_ = std::move(step.scene);
+    scene_ = *step.scene;
     all_touched_ = true;
     ++edits_;
     dirty_ = true;
@@ -246,8 +252,8 @@ bool Document::cancel_gesture() {
 bool Document::undo() {
   end_gesture();
   if (undo_.empty() || !scene_) return false;
-  redo_.push_back(Step{std::move(*scene_), edits_, modified_});
-  scene_ = std::move(undo_.back().scene);
+  redo_.push_back(Step{std::make_shared<const Scene>(std::move(*scene_)), edits_, modified_});
+  scene_ = *undo_.back().scene;
   undo_.pop_back();
   all_touched_ = true;
   ++edits_;
@@ -258,8 +264,8 @@ bool Document::undo() {
 bool Document::redo() {
   end_gesture();
   if (redo_.empty() || !scene_) return false;
-  undo_.push_back(Step{std::move(*scene_), edits_, modified_});
-  scene_ = std::move(redo_.back().scene);
+  undo_.push_back(Step{std::make_shared<const Scene>(std::move(*scene_)), edits_, modified_});
+  scene_ = *redo_.back().scene;
   redo_.pop_back();
   all_touched_ = true;
   ++edits_;

@@ -119,7 +119,7 @@ class Document {
 
  private:
   struct Step {
-    Scene scene;
+    std::shared_ptr<const Scene> scene;  // shared with base_ when a gesture starts on it (no copy)
     std::uint64_t edits = 0;  // edits_ when the step was taken
     bool modified = false;    // modified_ then
   };
@@ -133,20 +133,37 @@ class Document {
   std::vector<Step> undo_, redo_;
   // background planning
   struct Result {
-    std::shared_ptr<Planned> planned;  // null when the scene cannot be planned
+    std::shared_ptr<Planned> planned;    // null when the scene cannot be planned
+    std::shared_ptr<const Scene> scene;  // the scene that was planned (in `planned` when it could be)
     std::string error;
   };
+  /// What a background plan starts from: base_ with the waypoints changed since (copied here)
+  /// and the rest of the scene (small): the planning thread puts the scene together.
+  struct Changes {
+    std::shared_ptr<const Scene> base;
+    Scene rest;  // the scene without its waypoints
+    std::vector<std::pair<std::size_t, Waypoint>> waypoints;
+  };
   static Result plan_scene(Scene scene, const Derive& derive);
+  static Result plan_changes(const Changes& c, const Derive& derive);
   void show(Result r);
   bool background_ = false;
   std::future<Result> job_;
   std::function<Derive()> make_derive_;
   std::uint64_t plans_shown_ = 0;
   std::vector<std::shared_ptr<const Planned>> retired_;  // freed by the next background plan
-  std::shared_ptr<Scene> job_scene_;  // what the background plan copies; changed only while none runs
-  void sync_job_scene();
-  std::vector<std::size_t> touched_;  // waypoints changed since the last background plan started
-  bool all_touched_ = true;           // anything else changed since then
+  // Copying a long scene (two allocations per waypoint) takes a frame's time, and so does even
+  // comparing one. base_ is an immutable copy of the scene as it was at some point (the last
+  // background plan's scene, or the loaded one); touched_ lists the waypoints changed since,
+  // unless all_touched_. A background plan gets base_ and copies of those waypoints only, and an
+  // undo step taken while the scene equals base_ shares it.
+  std::shared_ptr<const Scene> base_;
+  std::vector<std::size_t> touched_;
+  bool all_touched_ = true;
+  [[nodiscard]] bool scene_is_base() const { return base_ && !all_touched_ && touched_.empty() && !job_.valid(); }
+  [[nodiscard]] std::shared_ptr<const Scene> snapshot() const {
+    return scene_is_base() ? base_ : std::make_shared<const Scene>(*scene_);
+  }
 };
 
 }  // namespace c2path::viewer

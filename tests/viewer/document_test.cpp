@@ -179,6 +179,16 @@ TEST_CASE("viewer document: background planning never waits and ends with the la
   CHECK(d.shown()->samples->n > 100);
   CHECK(d.shown()->scene.waypoints[1].q[0] == 0.65 + 0.03);
   expect_same_plan(*d.shown(), *plan_now(d.scene()));
+  // The drag is one undo step (its snapshot shared with the planned copy), and redo brings it back.
+  const double before_drag = 0.65;
+  REQUIRE(d.undo());
+  d.finish_planning();
+  CHECK(d.scene().waypoints[1].q[0] == before_drag);
+  CHECK(d.shown()->scene.waypoints[1].q[0] == before_drag);
+  REQUIRE(d.redo());
+  d.finish_planning();
+  CHECK(d.shown()->scene.waypoints[1].q[0] == 0.65 + 0.03);
+  expect_same_plan(*d.shown(), *plan_now(d.scene()));
 
   // Changes announced for one waypoint, then a change of another kind (a time): the planned
   // copy of the scene follows both.
