@@ -330,6 +330,7 @@ void App::actions_row() {
         "3D view\n"
         "  left drag: orbit (2D: pan)   right or middle drag: pan   wheel: zoom\n"
         "  drag a numbered handle: move that waypoint in the view plane\n"
+        "    (Escape while dragging: put it back, no undo step)\n"
         "  double-click: frame the path\n"
         "Plots\n"
         "  click or drag: move the playhead   wheel: zoom time   right drag: pan time\n"

@@ -152,9 +152,8 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       bar_open = false;
     };
     auto flush = [&] {
-      thin_polyline(line_, 0.25f);
-      thin_polyline(line_, 0.25f);
-  if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);
+      thin_polyline(line_, 0.25f);  // once: a second pass could add its error to the first's
+      if (line_.size() >= 2) dl->AddPolyline(line_.data(), int(line_.size()), c, 0, 2.0f);
       line_.clear();
     };
     // The min..max per column depends only on the samples and the time range: kept until they change.

@@ -751,7 +751,7 @@ void App::view_panel(const ImVec2& pos, const ImVec2& size) {
     if (w.t) tip += "  t " + fmt::num(*w.t) + " s";
     for (std::size_t a = 0; a < w.q.size() && a < doc_.scene().axes.size(); ++a)
       tip += "\n" + doc_.scene().axes[a].name + " " + fmt::num(w.q[a]) + " " + doc_.scene().axes[a].unit;
-    tip += "\ndrag to move it in the view plane";
+    tip += "\ndrag to move it in the view plane (Escape: put it back)";
     ImGui::SetTooltip("%s", tip.c_str());
   }
   dl->PopClipRect();
