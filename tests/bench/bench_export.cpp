@@ -6,7 +6,9 @@
 //   BM_reconstruction/S     reconstruction_error (linear and cubic Hermite) at the same rate
 //   BM_verify_csv/S         verify_text on the CSV of the same move
 //   BM_double_to_chars/V    std::to_chars(first, last, double) per double (items are doubles)
-//   BM_double_shortest/V    the exporter's own formatter (detail/shortest_double) on the same doubles
+//   BM_double_shortest/V    the exporter's own formatter (detail/shortest_double) on the same doubles,
+//                           a row at a time as in the export (shortest_parts, then write_parts)
+//   BM_double_shortest_single/V  the same, one write_shortest call per number
 // V picks the doubles: 0 the values of the benchmark move (positions, velocities, accelerations
 // and times, as in the CSV), 1 random finite bit patterns.
 // S is the length of the move in seconds. The whole-process figure (1 hour, 8 axes, 1 kHz to a
@@ -150,34 +152,66 @@ const std::vector<double>& doubles(long which) {
   return v;
 }
 
+// Both write the doubles as CSV rows of 25 numbers into a buffer, as the exporter does (the
+// exporter's own formatter takes a row's numbers apart in one loop, then writes them).
+constexpr std::size_t kRow = 25;
+
 void BM_double_to_chars(benchmark::State& state) {
   const auto& v = doubles(state.range(0));
-  char buf[64];
+  static char buf[kRow * 40];
   for (auto _ : state)
-    for (double x : v) {
-      char* e = std::to_chars(buf, buf + sizeof buf, x).ptr;
-      benchmark::DoNotOptimize(e);
+    for (std::size_t i = 0; i + kRow <= v.size(); i += kRow) {
+      char* p = buf;
+      for (std::size_t j = 0; j < kRow; ++j) {
+        p = std::to_chars(p, p + 40, v[i + j]).ptr;
+        *p++ = ',';
+      }
+      benchmark::DoNotOptimize(p);
       benchmark::ClobberMemory();
     }
-  state.SetItemsProcessed(std::int64_t(state.iterations()) * std::int64_t(v.size()));
+  state.SetItemsProcessed(std::int64_t(state.iterations()) * std::int64_t(v.size() / kRow * kRow));
 }
 
 void BM_double_shortest(benchmark::State& state) {
   const auto& v = doubles(state.range(0));
-  char buf[64];
+  static char buf[kRow * 40 + c2path::detail::kShortestRoom];
+  c2path::detail::ShortestParts parts[kRow];
   for (auto _ : state)
-    for (double x : v) {
-      char* e = c2path::detail::write_shortest(buf, x);
-      benchmark::DoNotOptimize(e);
+    for (std::size_t i = 0; i + kRow <= v.size(); i += kRow) {
+      char* p = buf;
+      c2path::detail::shortest_parts(&v[i], kRow, parts);
+      for (std::size_t j = 0; j < kRow; ++j) {
+        p = c2path::detail::write_parts(p, parts[j]);
+        *p++ = ',';
+      }
+      benchmark::DoNotOptimize(p);
       benchmark::ClobberMemory();
     }
-  state.SetItemsProcessed(std::int64_t(state.iterations()) * std::int64_t(v.size()));
+  state.SetItemsProcessed(std::int64_t(state.iterations()) * std::int64_t(v.size() / kRow * kRow));
+}
+
+// One number per call (write_shortest), for comparison.
+void BM_double_shortest_single(benchmark::State& state) {
+  const auto& v = doubles(state.range(0));
+  static char buf[kRow * 40 + c2path::detail::kShortestRoom];
+  for (auto _ : state)
+    for (std::size_t i = 0; i + kRow <= v.size(); i += kRow) {
+      char* p = buf;
+      for (std::size_t j = 0; j < kRow; ++j) {
+        p = c2path::detail::write_shortest(p, v[i + j]);
+        *p++ = ',';
+      }
+      benchmark::DoNotOptimize(p);
+      benchmark::ClobberMemory();
+    }
+  state.SetItemsProcessed(std::int64_t(state.iterations()) * std::int64_t(v.size() / kRow * kRow));
 }
 
 }  // namespace
 
 BENCHMARK(BM_double_to_chars)->Arg(0)->Arg(1)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_double_shortest)->Arg(0)->Arg(1)->Unit(benchmark::kMicrosecond);
+BENCHMARK(BM_double_shortest_single)->Arg(0)->Arg(1)->Unit(benchmark::kMicrosecond);
 BENCHMARK(BM_export_eval)->Arg(60)->Unit(benchmark::kMillisecond);
 // Formatting and reconstruction run on worker threads: rates are per wall-clock second.
 BENCHMARK(BM_export_csv)->Arg(60)->Unit(benchmark::kMillisecond)->UseRealTime();

@@ -207,7 +207,7 @@ constexpr std::uint64_t kCMin = std::uint64_t(1) << 52;
   const bool uin = vbl + out <= s << 2;
   const bool win = (t << 2) + out <= vbr;
   const auto cmp = std::int64_t(vb - ((s + t) << 1));
-  const bool closer_s = cmp < 0 || (cmp == 0 && (s & 1) == 0);
+  const bool closer_s = (cmp < 0) | ((cmp == 0) & ((s & 1) == 0));  // no short circuit: no branch
   const bool pick_s = uin != win ? uin : closer_s;
   const std::uint64_t one = t - std::uint64_t(pick_s);
   const std::uint64_t ten = tp10 - 10 * std::uint64_t(upin);
@@ -332,7 +332,8 @@ char* write_shortest(char* p, double v) noexcept {
 }
 
 char* write_parts(char* p, const ShortestParts& dec) noexcept {
-  if (dec.negative) *p++ = '-';
+  *p = '-';  // kept only for a negative number (no branch: the sign of signed data is hard to predict)
+  p += dec.negative ? 1 : 0;
   if (dec.zero) {
     *p = '0';
     return p + 1;
@@ -362,7 +363,7 @@ char* write_parts(char* p, const ShortestParts& dec) noexcept {
   // first significant digit z[lead]. Chosen without branches (17 or 16 digits is hard to predict).
   const u128 x = w1 | (u128)w2 << 64;                                      // z[1..17)
   const int lead_x = w1 ? std::countr_zero(w1) >> 3 : 8 + (std::countr_zero(w2 | (std::uint64_t(1) << 63)) >> 3);
-  const int lead = top ? 0 : 1 + lead_x;                                    // 0..16
+  const int lead = int(top == 0) * (1 + lead_x);                           // 0..16, no branch
   const u128 z16 = (x << 8) | top;                                          // z[0..16)
   const std::uint64_t d0 = lead < 16 ? std::uint64_t(z16 >> (8 * (lead & 15))) & 0xff : w2 >> 56;
   const u128 r = lead < 16 ? x >> (8 * (lead & 15)) : u128(0);              // z[lead + 1 .. lead + 17)
