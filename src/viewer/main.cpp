@@ -25,6 +25,7 @@
 #include <cstdlib>
 #include <cstring>
 #include <string>
+#include <thread>
 #include <unordered_map>
 #include <vector>
 
@@ -73,7 +74,8 @@ const char* kUsage =
     "  --same-as REF.png      with --screenshot: fail (exit 5) unless the PNG has exactly the pixels of REF.png\n"
     "  --full-redraw          draw every pixel every frame (default: only what changed since the last frame)\n"
     "  --spin                 measurement: orbit the 3D view and play, every frame\n"
-    "  --edit-each-frame      measurement: move the middle waypoint a little every frame (re-plans each frame)\n"
+    "  --edit-each-frame      measurement: move the middle waypoint a little every frame, as a drag does,\n"
+    "                         frames paced at 60 Hz (planning runs in the background meanwhile)\n"
     "  --help, --version\n";
 
 int usage_error(const std::string& msg) {
@@ -312,6 +314,12 @@ int main(int argc, char** argv) {
     if (a.frames > 0 && frame >= a.frames) break;
     if (headless || app.busy() || a.timing) glfwPollEvents();
     else glfwWaitEventsTimeout(0.1);
+    if (a.edit_each_frame && frame > 0) {
+      // Paced like a drag on a 60 Hz display (headless windows have no vertical sync): frames do
+      // not run back to back, so background planning gets the time a real drag leaves it.
+      const auto next = last + std::chrono::microseconds(16667);
+      if (Clock::now() < next) std::this_thread::sleep_until(next);
+    }
     const auto t0 = Clock::now();
     const double c0 = cpu_now();
     if (a.edit_each_frame && frame >= 1 && doc.has_scene() && !doc.scene().waypoints.empty()) {
