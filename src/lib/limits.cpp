@@ -171,6 +171,14 @@ std::vector<Stream> make_streams(const std::vector<AxisLimits>& limits, const st
   return st;
 }
 
+// Whether a stream's peak lies beyond its limit by more than its tolerance.
+bool peak_beyond(const Stream& st, const AxisPeaks& pk) {
+  const double peak = st.q == Quantity::kPos ? (st.side > 0 ? pk.pos_max : pk.pos_min)
+                      : st.q == Quantity::kVel ? pk.vel : st.q == Quantity::kAcc ? pk.acc : pk.jerk;
+  const double excess = st.q == Quantity::kPos ? st.side * (peak - st.limit) : peak - st.limit;
+  return excess > st.tol;
+}
+
 int deriv_of(Quantity q) { return q == Quantity::kPos ? 0 : q == Quantity::kVel ? 1 : q == Quantity::kAcc ? 2 : 3; }
 
 void check_exact(const std::vector<CubicSpline>& pieces, const std::vector<AxisLimits>& limits, double rel_tol, Report& r) {
@@ -184,12 +192,7 @@ void check_exact(const std::vector<CubicSpline>& pieces, const std::vector<AxisL
     }
   std::vector<Stream> streams = make_streams(limits, r.peaks, rel_tol);
   for (auto& st : streams) {
-    const AxisPeaks& pk = r.peaks[std::size_t(st.axis)];
-    // Skip the work when the peak is inside the limit.
-    const double peak = st.q == Quantity::kPos ? (st.side > 0 ? pk.pos_max : pk.pos_min)
-                        : st.q == Quantity::kVel ? pk.vel : st.q == Quantity::kAcc ? pk.acc : pk.jerk;
-    const double excess = st.q == Quantity::kPos ? st.side * (peak - st.limit) : peak - st.limit;
-    if (!(excess > st.tol)) continue;
+    if (!peak_beyond(st, r.peaks[std::size_t(st.axis)])) continue;  // the peak is inside: no work
     const int d = deriv_of(st.q);
     for (const auto& sp : pieces)
       for (Index i = 0; i < sp.pieces(); ++i) {
@@ -376,11 +379,7 @@ void check_poly(const Trajectory& tr, const PolyPieces& P, const std::vector<Axi
   }
   std::vector<Stream> streams = make_streams(limits, r.peaks, rel_tol);
   for (auto& st : streams) {
-    const AxisPeaks& pk = r.peaks[std::size_t(st.axis)];
-    const double peak = st.q == Quantity::kPos ? (st.side > 0 ? pk.pos_max : pk.pos_min)
-                        : st.q == Quantity::kVel ? pk.vel : st.q == Quantity::kAcc ? pk.acc : pk.jerk;
-    const double excess = st.q == Quantity::kPos ? st.side * (peak - st.limit) : peak - st.limit;
-    if (!(excess > st.tol)) continue;
+    if (!peak_beyond(st, r.peaks[std::size_t(st.axis)])) continue;  // the peak is inside: no work
     const int d = deriv_of(st.q);
     auto own_st = [&](double t, double pv) { return own(t, st.axis, d, pv); };
     cells(std::size_t(st.axis));

@@ -57,21 +57,12 @@ double newton_bracketed(const double* c, int degree, double lo, double hi, doubl
   return x;
 }
 
-// Degree 4 and up. On [0, 1] a polynomial whose Bernstein coefficients all have one sign has no
-// root there (convex hull property), which prunes most calls at once; otherwise the critical
-// points (roots of p', recursively) split (a, b) into monotone stretches, each solved by
-// safeguarded Newton.
-int roots_high(const double* c, int degree, double a, double b, double* out) {
-  if (a == 0.0 && b == 1.0) {
-    double bz[kMaxPolyDegree + 1];
-    bernstein(c, degree, bz);
-    bool pos = true, neg = true;
-    for (int i = 0; i <= degree; ++i) {
-      pos = pos && bz[i] > 0.0;
-      neg = neg && bz[i] < 0.0;
-    }
-    if (pos || neg) return 0;
-  }
+// Roots of p in (a, b) from its critical points (roots of p', recursively): they split (a, b)
+// into stretches where p is monotone; a stretch whose ends differ in sign holds one root, found
+// by `solve(lo, hi, p(lo))`. A root exactly at an interior critical point (a double root) is
+// reported once.
+template <class Solve>
+int roots_by_brackets(const double* c, int degree, double a, double b, double* out, const Solve& solve) {
   double dc[kMaxPolyDegree];
   for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
   double crit[kMaxPolyDegree];
@@ -91,13 +82,31 @@ int roots_high(const double* c, int degree, double a, double b, double* out) {
       if (nr == 0 || out[nr - 1] != hi) out[nr++] = hi;
       continue;
     }
-    if (plo == 0.0) continue;
+    if (plo == 0.0) continue;  // at a: excluded (open interval) or already reported
     if ((plo < 0.0) != (phi < 0.0) && phi != 0.0) {
-      const double r = newton_bracketed(c, degree, lo, hi, plo);
+      const double r = solve(lo, hi, plo);
       if (r > a && r < b && (nr == 0 || out[nr - 1] != r)) out[nr++] = r;
     }
   }
   return nr;
+}
+
+// Degree 4 and up: on [0, 1] a polynomial whose Bernstein coefficients all have one sign has no
+// root there (convex hull property), which prunes most calls at once; otherwise the monotone
+// stretches are solved by safeguarded Newton.
+int roots_high(const double* c, int degree, double a, double b, double* out) {
+  if (a == 0.0 && b == 1.0) {
+    double bz[kMaxPolyDegree + 1];
+    bernstein(c, degree, bz);
+    bool pos = true, neg = true;
+    for (int i = 0; i <= degree; ++i) {
+      pos = pos && bz[i] > 0.0;
+      neg = neg && bz[i] < 0.0;
+    }
+    if (pos || neg) return 0;
+  }
+  return roots_by_brackets(c, degree, a, b, out,
+                           [&](double lo, double hi, double plo) { return newton_bracketed(c, degree, lo, hi, plo); });
 }
 
 }  // namespace
@@ -115,36 +124,8 @@ int poly_roots_in(const double* c, int degree, double a, double b, double* out) 
   }
   if (degree > kMaxPolyDegree) return 0;  // programmer error; callers stay within the bound
   if (degree >= 4) return roots_high(c, degree, a, b, out);
-  // Critical points split (a, b) into stretches where p is monotone.
-  double dc[kMaxPolyDegree];
-  for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
-  double crit[kMaxPolyDegree];
-  const int nc = poly_roots_in(dc, degree - 1, a, b, crit);
-  double pts[kMaxPolyDegree + 2];
-  int np = 0;
-  pts[np++] = a;
-  for (int i = 0; i < nc; ++i) pts[np++] = crit[i];
-  pts[np++] = b;
-  int nr = 0;
-  double prev_val = poly_eval(c, degree, pts[0]);
-  for (int i = 0; i + 1 < np; ++i) {
-    const double lo = pts[i];
-    const double hi = pts[i + 1];
-    const double plo = prev_val;
-    const double phi = poly_eval(c, degree, hi);
-    prev_val = phi;
-    // A root exactly at an interior critical point (double root).
-    if (phi == 0.0 && i + 1 < np - 1) {
-      if (nr == 0 || out[nr - 1] != hi) out[nr++] = hi;
-      continue;
-    }
-    if (plo == 0.0) continue;  // at a: excluded (open interval) or already reported
-    if ((plo < 0.0) != (phi < 0.0) && phi != 0.0) {
-      const double r = bisect(c, degree, lo, hi, plo);
-      if (r > a && r < b && (nr == 0 || out[nr - 1] != r)) out[nr++] = r;
-    }
-  }
-  return nr;
+  // Degree 2 and 3 (the keyframe check): bisection to full precision.
+  return roots_by_brackets(c, degree, a, b, out, [&](double lo, double hi, double plo) { return bisect(c, degree, lo, hi, plo); });
 }
 
 std::pair<double, double> poly_extreme(const double* c, int degree, double a, double b, int side) {
