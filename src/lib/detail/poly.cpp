@@ -128,42 +128,40 @@ int poly_roots_in(const double* c, int degree, double a, double b, double* out) 
   return roots_by_brackets(c, degree, a, b, out, [&](double lo, double hi, double plo) { return bisect(c, degree, lo, hi, plo); });
 }
 
+namespace {
+// Calls consider(s) at b and at the roots of p' in (a, b): with a, the candidates for extremes.
+template <class Consider>
+void extreme_candidates(const double* c, int degree, double a, double b, const Consider& consider) {
+  consider(b);
+  if (degree < 2 || degree > kMaxPolyDegree) return;
+  double dc[kMaxPolyDegree];
+  for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
+  double r[kMaxPolyDegree];
+  const int n = poly_roots_in(dc, degree - 1, a, b, r);
+  for (int k = 0; k < n; ++k) consider(r[k]);
+}
+}  // namespace
+
 std::pair<double, double> poly_extreme(const double* c, int degree, double a, double b, int side) {
   double best_s = a;
   double best = poly_eval(c, degree, a);
-  auto consider = [&](double s) {
+  extreme_candidates(c, degree, a, b, [&](double s) {
     const double v = poly_eval(c, degree, s);
     if (side * (v - best) > 0) {
       best = v;
       best_s = s;
     }
-  };
-  consider(b);
-  if (degree >= 2 && degree <= kMaxPolyDegree) {
-    double dc[kMaxPolyDegree];
-    for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
-    double r[kMaxPolyDegree];
-    const int n = poly_roots_in(dc, degree - 1, a, b, r);
-    for (int k = 0; k < n; ++k) consider(r[k]);
-  }
+  });
   return {best, best_s};
 }
 
 std::pair<double, double> poly_range(const double* c, int degree, double a, double b) {
   double lo = poly_eval(c, degree, a), hi = lo;
-  auto consider = [&](double s) {
+  extreme_candidates(c, degree, a, b, [&](double s) {
     const double v = poly_eval(c, degree, s);
     lo = std::min(lo, v);
     hi = std::max(hi, v);
-  };
-  consider(b);
-  if (degree >= 2 && degree <= kMaxPolyDegree) {
-    double dc[kMaxPolyDegree];
-    for (int k = 1; k <= degree; ++k) dc[k - 1] = double(k) * c[k];
-    double r[kMaxPolyDegree];
-    const int n = poly_roots_in(dc, degree - 1, a, b, r);
-    for (int k = 0; k < n; ++k) consider(r[k]);
-  }
+  });
   return {lo, hi};
 }
 
