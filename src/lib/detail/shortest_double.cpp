@@ -305,39 +305,8 @@ char* put_exact_integer(char* p, std::uint64_t c, int q) {
   return p + (e - b);
 }
 
-}  // namespace
-
-const Pow10Entry& pow10_entry(int e) noexcept { return table().e[std::size_t(e - kMinPow10)]; }
-
-ShortestDecimal shortest_decimal(double v) noexcept {
-  Decoded d;
-  decode(std::bit_cast<std::uint64_t>(v), table(), d);
-  return {d.digits, d.exponent};
-}
-
-void shortest_parts(const double* v, std::size_t n, ShortestParts* out) noexcept {
-  const Pow10Table& tab = table();
-  for (std::size_t i = 0; i < n; ++i) {
-    const auto bits = std::bit_cast<std::uint64_t>(v[i]);
-    out[i].negative = (bits >> 63) != 0;
-    out[i].zero = (bits << 1) == 0;
-    decode(out[i].zero ? std::bit_cast<std::uint64_t>(1.0) : bits, tab, out[i]);
-  }
-}
-
-char* write_shortest(char* p, double v) noexcept {
-  ShortestParts s;
-  shortest_parts(&v, 1, &s);
-  return write_parts(p, s);
-}
-
-char* write_parts(char* p, const ShortestParts& dec) noexcept {
-  *p = '-';  // kept only for a negative number (no branch: the sign of signed data is hard to predict)
-  p += dec.negative ? 1 : 0;
-  if (dec.zero) {
-    *p = '0';
-    return p + 1;
-  }
+// The significant digits of dec.digits as text, their count and the scientific exponent.
+[[gnu::always_inline]] inline void digits_text(ShortestParts& dec) {
   const std::uint64_t f = dec.digits;  // 1 <= f < 10^17
 
   // f = top 10^16 + mid 10^8 + lo; w1, w2: the 8 digits of mid and lo, one per byte, first digit
@@ -373,6 +342,60 @@ char* write_parts(char* p, const ShortestParts& dec) noexcept {
   constexpr std::uint64_t kAscii = 0x3030303030303030ULL;
   const u128 r_ascii = r + ((u128)kAscii << 64 | kAscii);  // '0' added to every byte, no carries
   const char c0 = char('0' + d0);
+
+  dec.count = n;
+  dec.sci_exponent = E;
+  dec.text_lo = std::uint64_t(r_ascii);
+  dec.text_hi = std::uint64_t(r_ascii >> 64);
+  dec.first = c0;
+}
+
+}  // namespace
+
+const Pow10Entry& pow10_entry(int e) noexcept { return table().e[std::size_t(e - kMinPow10)]; }
+
+ShortestDecimal shortest_decimal(double v) noexcept {
+  Decoded d;
+  decode(std::bit_cast<std::uint64_t>(v), table(), d);
+  return {d.digits, d.exponent};
+}
+
+void shortest_parts(const double* v, std::size_t n, ShortestParts* out) noexcept {
+  const Pow10Table& tab = table();
+  auto one = [&](std::size_t i) __attribute__((always_inline)) {
+    const auto bits = std::bit_cast<std::uint64_t>(v[i]);
+    out[i].negative = (bits >> 63) != 0;
+    out[i].zero = (bits << 1) == 0;
+    decode(out[i].zero ? std::bit_cast<std::uint64_t>(1.0) : bits, tab, out[i]);  // a zero gets the digits of 1, unused
+    digits_text(out[i]);
+  };
+  // Two numbers per step: their long chains of dependent operations are independent, and the
+  // processor overlaps them better side by side.
+  std::size_t i = 0;
+  for (; i + 2 <= n; i += 2) {
+    one(i);
+    one(i + 1);
+  }
+  if (i < n) one(i);
+}
+
+char* write_shortest(char* p, double v) noexcept {
+  ShortestParts s;
+  shortest_parts(&v, 1, &s);
+  return write_parts(p, s);
+}
+
+char* write_parts(char* p, const ShortestParts& dec) noexcept {
+  *p = '-';  // kept only for a negative number (no branch: the sign of signed data is hard to predict)
+  p += dec.negative ? 1 : 0;
+  if (dec.zero) {
+    *p = '0';
+    return p + 1;
+  }
+  const int n = dec.count;
+  const int E = dec.sci_exponent;
+  const u128 r_ascii = dec.text_lo | (u128)dec.text_hi << 64;
+  const char c0 = dec.first;
 
   const int absE = E < 0 ? -E : E;
   const int sci_len = n + (n > 1 ? 1 : 0) + 2 + (absE >= 100 ? 3 : 2);

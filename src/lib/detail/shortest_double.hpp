@@ -32,6 +32,12 @@ struct ShortestParts {
   std::int32_t q;
   bool negative;
   bool zero;
+  // Filled in by shortest_parts for write_parts: the significant digits as text (the first, then
+  // the next 16 as ASCII bytes, '0' past the last), their count and the scientific exponent.
+  char first;
+  std::int32_t count;
+  std::int32_t sci_exponent;
+  std::uint64_t text_lo, text_hi;
 };
 /// Takes apart the finite doubles v[0, n) into out[0, n). Separate from write_parts so that a
 /// caller can do the arithmetic of many numbers in one tight loop (independent work the processor
