@@ -24,7 +24,7 @@
 // the sticky bit still looks at the same bits 64..126; (2) the multiple-of-10^(k+1) step is also
 // taken for s < 100 and the two smallest subnormals are not scaled by 10 (the paper wants two
 // digits at least for Java's text; the shortest text wants 5e-324). The paper's proof is not
-// re-done for these changes: tests/shortest_test.cpp compares the text with std::to_chars on 63 M
+// re-done for these changes: tests/shortest_test.cpp compares the text with std::to_chars on 62.6 M
 // values by default and 1.1 G in its [.long] case.
 
 static_assert(std::endian::native == std::endian::little, "the digit scan assumes a little-endian target");
