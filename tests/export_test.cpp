@@ -616,3 +616,38 @@ TEST_CASE("export: the atomic file writes every byte, O_DIRECT or buffered, at a
   }
   if (dirs.size() > 1) fs::remove_all(dirs[1], ec);
 }
+
+TEST_CASE("export: an error in a worker thread or in the sink of a long export reaches the caller", "[export]") {
+  // q(t) = t on [0, 100] s at 1 kHz: 100,001 rows, 25 blocks, formatted on worker threads where the
+  // machine has more than one core. At 1e14 counts per unit the counts pass 2^53 at t = 90.07 s
+  // (block 22): the writer must stop with that error, not hang or write past it.
+  const auto tr = cubic(100.0, {{0.0, 1.0, 0.0, 0.0}});
+  ExportOptions o;
+  o.rate_hz = 1000;
+  o.units = ExportUnits::kCounts;
+  o.counts = {{1e14, 0.0}};
+  std::size_t bytes = 0;
+  try {
+    write_setpoints(*tr, {"x"}, o, [&](std::string_view s) { bytes += s.size(); });
+    FAIL("no error for counts beyond 2^53");
+  } catch (const Error& e) {
+    CHECK(std::string(e.what()).find("beyond the integers a double holds exactly") != std::string::npos);
+  }
+  CHECK(bytes > 0);
+  // The rows before the first bad one were all written in order: at most those 90,071 rows (t up
+  // to 90.07 s); a row is at least "t,counts,vel,acc\n" = 8 bytes.
+  CHECK(bytes < 90072u * 64u);
+  // A sink that fails (a full disk) on its 10th block: the error comes out, the workers stop.
+  o.units = ExportUnits::kNative;
+  o.counts.clear();
+  int calls = 0;
+  try {
+    write_setpoints(*tr, {"x"}, o, [&](std::string_view) {
+      if (++calls == 10) throw std::runtime_error("disk full (simulated)");
+    });
+    FAIL("the sink's error was lost");
+  } catch (const std::runtime_error& e) {
+    CHECK(std::string(e.what()) == "disk full (simulated)");
+  }
+  CHECK(calls == 10);
+}

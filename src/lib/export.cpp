@@ -2,10 +2,12 @@
 
 #include <algorithm>
 #include <charconv>
+#include <condition_variable>
 #include <cmath>
 #include <cstring>
 #include <exception>
 #include <memory>
+#include <mutex>
 #include <thread>
 
 #include "c2path/error.hpp"
@@ -345,8 +347,10 @@ ExportResult write_export(const Trajectory& tr, const std::vector<std::string>& 
   }
   const std::size_t blocks = (g.count + kBlockRows - 1) / kBlockRows;
   auto block_range = [&](std::size_t b) { return std::pair{b * kBlockRows, std::min(g.count, (b + 1) * kBlockRows)}; };
-  // Long moves: blocks are formatted by worker threads, a batch ahead of the thread that writes,
-  // and written in order, so the bytes are the same as from one thread. Memory: two batches.
+  // Long moves: worker threads take the next block to format from a shared counter (no batches,
+  // so no waiting for the slowest of a batch) into one of kSlots buffers per worker, up to that
+  // many blocks ahead of this thread, which writes the blocks in order: the bytes are the same as
+  // from one thread. Memory: kSlots * workers blocks.
   const unsigned hw = std::thread::hardware_concurrency();
   const std::size_t workers = std::clamp<std::size_t>(hw == 0 ? 1 : hw, 1, 4);
   if (workers == 1 || blocks < 4) {
@@ -358,46 +362,78 @@ ExportResult write_export(const Trajectory& tr, const std::vector<std::string>& 
       if (o.progress) o.progress(k1, g.count);
     }
   } else {
-    std::vector<Block> bufs[2] = {std::vector<Block>(workers), std::vector<Block>(workers)};
-    std::vector<std::exception_ptr> errors(workers);
-    auto format_batch = [&](std::size_t batch, std::vector<Block>& out) {
-      std::vector<std::thread> threads;
-      for (std::size_t w = 0; w < workers; ++w) {
-        const std::size_t b = batch * workers + w;
-        out[w].size = 0;
-        if (b >= blocks) break;
-        threads.emplace_back([&, b, w] {
-          try {
-            const auto [k0, k1] = block_range(b);
-            fmt.rows(k0, k1, out[w]);
-          } catch (...) {
-            errors[w] = std::current_exception();
-          }
-        });
-      }
-      return threads;
+    constexpr std::size_t kSlots = 4;
+    const std::size_t ring = kSlots * workers;
+    struct Slot {
+      Block block;
+      std::size_t holds = std::size_t(-1);  // the block formatted into it, or none
     };
-    auto join = [&](std::vector<std::thread>& threads) {
+    std::vector<Slot> slots(ring);
+    std::mutex mu;
+    std::condition_variable cv;
+    std::size_t next = 0;     // the next block a worker takes
+    std::size_t written = 0;  // blocks written so far (this thread)
+    bool stop = false;
+    std::exception_ptr error;
+    auto work = [&] {
+      for (;;) {
+        std::size_t b;
+        {
+          std::unique_lock lock(mu);
+          if (stop || next >= blocks) return;
+          b = next++;
+          // Slot b % ring is free once block b - ring has been written.
+          cv.wait(lock, [&] { return stop || b < written + ring; });
+          if (stop) return;
+        }
+        Slot& s = slots[b % ring];
+        try {
+          const auto [k0, k1] = block_range(b);
+          fmt.rows(k0, k1, s.block);
+        } catch (...) {
+          std::lock_guard lock(mu);
+          if (!error) error = std::current_exception();
+          stop = true;
+          cv.notify_all();
+          return;
+        }
+        std::lock_guard lock(mu);
+        s.holds = b;
+        cv.notify_all();
+      }
+    };
+    std::vector<std::thread> threads;
+    for (std::size_t w = 0; w < workers; ++w) threads.emplace_back(work);
+    auto finish = [&] {
+      {
+        std::lock_guard lock(mu);
+        stop = true;
+      }
+      cv.notify_all();
       for (auto& t : threads) t.join();
-      threads.clear();
-      for (auto& e : errors)
-        if (e) std::rethrow_exception(e);
     };
-    const std::size_t batches = (blocks + workers - 1) / workers;
-    std::vector<std::thread> running = format_batch(0, bufs[0]);
-    join(running);
-    for (std::size_t batch = 0; batch < batches; ++batch) {
-      if (batch + 1 < batches) running = format_batch(batch + 1, bufs[(batch + 1) % 2]);
-      try {
-        for (const auto& s : bufs[batch % 2])
-          if (s.size) sink(s.view());
-      } catch (...) {
-        for (auto& t : running) t.join();
-        throw;
+    try {
+      for (std::size_t b = 0; b < blocks; ++b) {
+        Slot& s = slots[b % ring];
+        {
+          std::unique_lock lock(mu);
+          cv.wait(lock, [&] { return s.holds == b || error != nullptr; });
+          if (error) break;
+        }
+        sink(s.block.view());  // the slot stays ours until `written` moves past it
+        {
+          std::lock_guard lock(mu);
+          written = b + 1;
+        }
+        cv.notify_all();
+        if (o.progress) o.progress(block_range(b).second, g.count);
       }
-      if (o.progress) o.progress(std::min(g.count, (batch + 1) * workers * kBlockRows), g.count);
-      join(running);
+    } catch (...) {
+      finish();
+      throw;
     }
+    finish();
+    if (error) std::rethrow_exception(error);
   }
   return {g.count, g};
 }
