@@ -172,6 +172,14 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
         env.last[std::size_t(j)] = sv[std::min(i1, samples().n) - 1];
       }
     }
+    // Where a line or bar has just been drawn and some columns passed, a new draw command: an
+    // edit that changes part of the curve then redraws only that part (present.hpp).
+    int split_at = 48;
+    auto maybe_split = [&](int j) {
+      if (j < split_at) return;
+      dl->AddDrawCmd();
+      split_at = j + 48;
+    };
     for (int j = 0; j < cols; ++j) {
       float a = env.lo[std::size_t(j)], b = env.hi[std::size_t(j)];
       a = std::min(a, prev_last);
@@ -180,9 +188,16 @@ void App::draw_plot(ImDrawList* dl, std::size_t axis, int d, const Rect& r, bool
       const float x = r.min.x + (float(j) + 0.5f) * w / float(cols);
       const float ya = Y(a), yb = Y(b);
       if (ya - yb <= 3.0f) {
-        flush_bar();
+        if (bar_open) {
+          flush_bar();
+          maybe_split(j);
+        }
         line_.push_back({x, Y(0.5f * (a + b))});
       } else {
+        if (line_.size() >= 2) {
+          flush();
+          maybe_split(j);
+        }
         flush();
         if (bar_open && std::abs(yb - bar_top) < 1.5f && std::abs(ya - bar_bot) < 1.5f) {
           bar_max.x = x + 1.0f;

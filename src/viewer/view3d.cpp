@@ -163,8 +163,14 @@ void App::draw_path(ImDrawList* dl) {
   }
   // Draw runs of one colour as polylines (joined), beyond-limit runs thicker.
   const auto& segs = segs_;
-  std::size_t i = 0;
+  std::size_t i = 0, since_split = 0;
   while (i < segs.size()) {
+    // Every few dozen segments (between runs, so the strokes stay as they are) a new draw
+    // command: an edit that changes part of the path then redraws only that part (present.hpp).
+    if (since_split >= 48) {
+      dl->AddDrawCmd();
+      since_split = 0;
+    }
     const ImU32 colr = ramp(segs[i].v);
     const bool beyond = segs[i].v > 1.0f;
     dl->PathLineTo(segs[i].a);
@@ -174,6 +180,7 @@ void App::draw_path(ImDrawList* dl) {
       ++j;
     }
     dl->PathStroke(colr, 0, beyond ? 4.0f : 3.0f);  // integer widths: textured AA lines
+    since_split += j - i;
     i = j;
   }
 }
