@@ -102,22 +102,27 @@ bool Presenter::init() {
 
 std::vector<IRect> Presenter::merge(std::vector<IRect> rects, std::size_t max_rects) {
   rects.erase(std::remove_if(rects.begin(), rects.end(), [](const IRect& r) { return r.empty(); }), rects.end());
-  if (rects.size() > 64) {  // many changes (a window appeared, a table scrolled): one box
+  if (rects.size() > 1024) {  // a great many changes: one box
     IRect u = rects[0];
     for (const IRect& r : rects) u = unite(u, r);
     return {u};
   }
-  // Join rectangles whose union costs little more than the two (overlapping or close ones).
+  // Join rectangles that overlap or whose union costs little more than the two (close ones), in
+  // passes until none joins (the parts of one changed window or curve collapse quickly).
+  auto joins = [](const IRect& a, const IRect& b) {
+    return !intersect(a, b).empty() || unite(a, b).area() <= a.area() + b.area() + 2048;
+  };
   for (bool again = true; again;) {
     again = false;
-    for (std::size_t i = 0; i < rects.size() && !again; ++i)
-      for (std::size_t j = i + 1; j < rects.size(); ++j) {
-        const IRect u = unite(rects[i], rects[j]);
-        if (!intersect(rects[i], rects[j]).empty() || u.area() <= rects[i].area() + rects[j].area() + 2048) {
-          rects[i] = u;
-          rects.erase(rects.begin() + long(j));
+    for (std::size_t i = 0; i < rects.size(); ++i)
+      for (std::size_t j = i + 1; j < rects.size();) {
+        if (joins(rects[i], rects[j])) {
+          rects[i] = unite(rects[i], rects[j]);
+          rects[j] = rects.back();
+          rects.pop_back();
           again = true;
-          break;
+        } else {
+          ++j;
         }
       }
   }
