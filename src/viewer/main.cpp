@@ -302,7 +302,12 @@ int main(int argc, char** argv) {
   std::vector<double> redrawn;
 
   using Clock = std::chrono::steady_clock;
-  std::vector<double> frame_ms, ui_ms, cpu_ms;
+  std::vector<double> frame_ms, ui_ms, cpu_ms, main_ms;
+  auto main_now = [] {  // CPU time of this (the UI) thread [ms]: a frame's own work, without waiting
+    timespec ts{};
+    clock_gettime(CLOCK_THREAD_CPUTIME_ID, &ts);
+    return double(ts.tv_sec) * 1e3 + double(ts.tv_nsec) * 1e-6;
+  };
   auto cpu_now = [] {  // CPU time of the whole process (all threads, llvmpipe's included) [ms]
     timespec ts{};
     clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
@@ -321,7 +326,7 @@ int main(int argc, char** argv) {
       if (Clock::now() < next) std::this_thread::sleep_until(next);
     }
     const auto t0 = Clock::now();
-    const double c0 = cpu_now();
+    const double c0 = cpu_now(), m0 = main_now();
     if (a.edit_each_frame && frame >= 1 && doc.has_scene() && !doc.scene().waypoints.empty()) {
       // As a drag does (from the second frame: a drag needs a view drawn): one gesture, a new
       // value for one waypoint every frame.
@@ -355,6 +360,7 @@ int main(int argc, char** argv) {
     const auto t2 = Clock::now();
     frame_ms.push_back(std::chrono::duration<double, std::milli>(t2 - t0).count());
     cpu_ms.push_back(cpu_now() - c0);
+    main_ms.push_back(main_now() - m0);
     ui_ms.push_back(std::chrono::duration<double, std::milli>(t1 - t0).count());
     app.set_frame_ms(frame_ms.back());
     if (headless && frame + 1 == a.frames) {
@@ -385,19 +391,22 @@ int main(int argc, char** argv) {
   if (a.timing && !frame_ms.empty()) {
     // The first frames build fonts and sample the plan: reported apart.
     const std::size_t skip = std::min<std::size_t>(frame_ms.size() - 1, 2);
-    double sum = 0, mx = 0, usum = 0, csum = 0, rsum = 0;
+    double sum = 0, mx = 0, usum = 0, csum = 0, rsum = 0, msum = 0, mmax = 0;
     for (std::size_t i = skip; i < frame_ms.size(); ++i) {
       sum += frame_ms[i];
       csum += cpu_ms[i];
+      msum += main_ms[i];
+      mmax = std::max(mmax, main_ms[i]);
       usum += ui_ms[i];
       rsum += redrawn[i];
       mx = std::max(mx, frame_ms[i]);
     }
     const double k = double(frame_ms.size() - skip);
     std::printf("frame time over %zu frames (first %zu excluded, first %.1f ms): mean %.2f ms, max %.2f ms; UI build mean %.2f ms; "
-                "process CPU per frame (all threads) %.2f ms; %.1f%% of the pixels redrawn per frame; %d vertices, %d draw calls, %s; "
-                "%llu plans shown after the first\n",
-                frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k, csum / k, 100.0 * rsum / k, io.MetricsRenderVertices,
+                "process CPU per frame (all threads) %.2f ms; UI thread CPU per frame mean %.2f ms, max %.2f ms; %.1f%% of the pixels "
+                "redrawn per frame; %d vertices, %d draw calls, %s; %llu plans shown after the first\n",
+                frame_ms.size() - skip, skip, frame_ms[0], sum / k, mx, usum / k, csum / k, msum / k, mmax, 100.0 * rsum / k,
+                io.MetricsRenderVertices,
                 draw_calls, app.stats().c_str(), static_cast<unsigned long long>(doc.plans_shown() - 1));
   }
   presenter.release();
