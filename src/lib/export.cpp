@@ -575,11 +575,22 @@ Reconstruction reconstruct_range_exact(const Trajectory& tr, const std::vector<C
         const double q0 = s0(a, 0), q1 = s1(a, 0), v0 = s0(a, 1), v1 = s1(a, 1);
         const double d = (q1 - q0) / h;
         const double el[4] = {q[0] - q0, q[1] - d, q[2], q[3]};
+        double& lin = r.linear[std::size_t(a)];
+        if (whole) {
+          // el(x) = el0 + x (x - h)(q2 + q3 (x + h)) + x r1 with r1 = el1 + q2 h + q3 h^2 (algebra;
+          // el0 and r1 are only round-off when the samples lie on this cubic), and x (h - x) <=
+          // h^2 / 4 on [0, h]: a bound on |el|. Where it cannot beat the largest deviation found
+          // so far (with room for the round-off of either), the exact value cannot either.
+          const double r1 = el[1] + q[2] * h + q[3] * h * h;
+          const double bound = std::abs(el[0]) + 0.25 * h * h * (std::abs(q[2]) + 2.0 * h * std::abs(q[3])) + h * std::abs(r1);
+          if (bound * (1.0 + 1e-12) <= lin) continue;
+          lin = std::max(lin, cubic_max_abs(el, xa, xb));
+          // Inside one cubic piece the Hermite interpolant is that cubic: its error is 0 (what the
+          // formula would give is round-off), so it is only evaluated where the interval holds a break.
+          continue;
+        }
+        lin = std::max(lin, cubic_max_abs(el, xa, xb));
         const double eh[4] = {q[0] - q0, q[1] - v0, q[2] - (3 * d - 2 * v0 - v1) / h, q[3] - (v0 + v1 - 2 * d) / (h * h)};
-        r.linear[std::size_t(a)] = std::max(r.linear[std::size_t(a)], cubic_max_abs(el, xa, xb));
-        // Inside one cubic piece the Hermite interpolant is that cubic: its error is 0 (what the
-        // formula would give is round-off), so it is only evaluated where the interval holds a break.
-        if (whole) continue;
         r.hermite[std::size_t(a)] = std::max(r.hermite[std::size_t(a)], cubic_max_abs(eh, xa, xb));
       }
       ++r.points;
