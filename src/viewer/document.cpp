@@ -2,9 +2,6 @@
 
 #include "document.hpp"
 
-#include <sys/resource.h>
-#include <unistd.h>
-
 #include <algorithm>
 #include <chrono>
 #include <exception>
@@ -158,8 +155,6 @@ bool Document::replan() {
   touched_.clear();
   all_touched_ = false;  // from now on: changes relative to this plan's scene (base_ when it is shown)
   job_ = std::async(std::launch::async, [ch = std::move(ch), derive = std::move(derive), retired = std::move(retired_)]() mutable {
-    // Below the UI thread (and the renderer's threads): on a busy machine frames come first.
-    setpriority(PRIO_PROCESS, static_cast<id_t>(gettid()), 10);
     retired.clear();
     return plan_changes(ch, derive);
   });
