@@ -14,8 +14,10 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <exception>
 #include <limits>
 #include <string>
+#include <thread>
 
 #include "c2path/error.hpp"
 #include "c2path/time_law.hpp"
@@ -440,172 +442,203 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
     slow.clear();
     const detail::BaseLaw& bl = *part->base;
     const double T0 = bl.t.back(), L = bl.u.back();
-    kmax = 1.0;
-    std::size_t ih = 0, il = 0, ig = 0;
-    auto advance = [&](double at, std::size_t& i) {
-      while (i + 2 < n && bl.t[i + 1] <= at) ++i;
+    // One share of the intervals [k_begin, k_end): its own cursors (they start at the beginning
+    // and walk forward), repairs and largest ratio. The binding bits and violation flags it
+    // writes belong to its own intervals (one tag each), so two shares can run at once.
+    struct Share {
+      double kmax = 1.0;
+      std::vector<Slow> slow;
     };
-    // Base law at `at` (right-hand values) with interval cursor i: u_0, u_0', u_0'' and the area
-    // under u_0 up to `at` (extended precision: u is a difference of two areas).
-    auto base_at = [&](double at, std::size_t& i, double* o3) -> long double {
-      if (at < 0.0) {
-        o3[0] = o3[1] = o3[2] = 0.0;
-        return 0.0L;
-      }
-      if (at >= T0) {
-        o3[0] = L;
-        o3[1] = o3[2] = 0.0;
-        return bl.area[n - 1] + (long double)L * (at - T0);
-      }
-      advance(at, i);
-      const double y = at - bl.t[i];
-      o3[0] = bl.u[i] + y * (bl.v[i] + 0.5 * bl.w[i] * y);
-      o3[1] = bl.v[i] + bl.w[i] * y;
-      o3[2] = bl.w[i];
-      const long double ly = y;
-      return bl.area[i] + ly * (bl.u[i] + ly * (bl.v[i] * 0.5L + ly * bl.w[i] * (1.0L / 6.0L)));
-    };
-    const double itau = 1.0 / tau;
-    const long double itau_l = 1.0L / (long double)tau;
-    std::uint64_t* bits = nullptr;
-    double rv = 0.0, ra = 0.0, rj = 0.0;  // exact largest ratios of the current interval
-    // One piece of the move: sigma in [0, 1] over time H, u(sigma) = ug + X[0..3] (X[0] >= 0 the
-    // offset from grid point ig). Updates rv, ra, rj and the binding bits.
-    auto verify_piece = [&](const double* X, double H) {
-      const double iH = 1.0 / H;
-      // Ranges over the piece, for a first screen by interval arithmetic (certified, cheap):
-      // x = u - u_g in [X0, X(1)] (u nondecreasing), |du/dt| <= U1 (a quadratic in sigma: its
-      // ends and vertex), |d2u/dt2| <= U2 (linear: its ends), d3u/dt3 = U3 (constant).
-      const double xm = std::max(std::abs(X[0]), std::abs(X[0] + X[1] + X[2] + X[3]));
-      double U1 = std::max(std::abs(X[1]), std::abs(X[1] + 2.0 * X[2] + 3.0 * X[3]));
-      if (X[3] != 0.0) {
-        const double sv = -X[2] / (3.0 * X[3]);
-        if (sv > 0.0 && sv < 1.0) U1 = std::max(U1, std::abs(X[1] + sv * (2.0 * X[2] + 3.0 * sv * X[3])));
-      }
-      U1 *= iH;
-      const double U2 = std::max(std::abs(2.0 * X[2]), std::abs(2.0 * X[2] + 6.0 * X[3])) * iH * iH;
-      const double U3 = std::abs(6.0 * X[3]) * iH * iH * iH;
-      bool powers = false;
-      double x2[7] = {}, x3[10] = {};
-      const double* p1 = &g.d1[ig * m];
-      const double* p2 = &g.d2[ig * m];
-      const double* p3 = &g.d3[ig * m];
-      for (std::size_t a = 0; a < m; ++a) {
-        // |q_u| <= Q1, |q_uu| <= Q2, |q_uuu| = Q3 over the piece (Taylor at the grid point, exact).
-        const double Q3 = std::abs(p3[a]), Q2 = std::abs(p2[a]) + Q3 * xm, Q1 = std::abs(p1[a]) + xm * (std::abs(p2[a]) + 0.5 * Q3 * xm);
-        const double screen[3] = {Q1 * U1 * ilim[a * 3], (Q2 * U1 * U1 + Q1 * U2) * ilim[a * 3 + 1],
-                                  (Q3 * U1 * U1 * U1 + 3.0 * Q2 * U1 * U2 + Q1 * U3) * ilim[a * 3 + 2]};
-        // Which quantities the screen leaves open (branch-free: these tests are hard to predict).
-        const unsigned open = unsigned(!(screen[0] < near_q[0] && screen[0] <= 1.0)) |
-                              unsigned(!(screen[1] < near_q[1] && screen[1] <= 1.0)) << 1 |
-                              unsigned(!(screen[2] < near_q[2] && screen[2] <= 1.0)) << 2;
-        if (open == 0) continue;
-        if (!powers) {
-          for (int i = 0; i <= 3; ++i)
-            for (int j = 0; j <= 3; ++j) x2[i + j] += X[i] * X[j];
-          for (int i = 0; i <= 6; ++i)
-            for (int j = 0; j <= 3; ++j) x3[i + j] += x2[i] * X[j];
-          powers = true;
+    auto verify_share = [&](std::size_t k_begin, std::size_t k_end, Share& sh) {
+      std::size_t ih = 0, il = 0, ig = 0;
+      auto advance = [&](double at, std::size_t& i) {
+        while (i + 2 < n && bl.t[i + 1] <= at) ++i;
+      };
+      // Base law at `at` (right-hand values) with interval cursor i: u_0, u_0', u_0'' and the area
+      // under u_0 up to `at` (extended precision: u is a difference of two areas).
+      auto base_at = [&](double at, std::size_t& i, double* o3) -> long double {
+        if (at < 0.0) {
+          o3[0] = o3[1] = o3[2] = 0.0;
+          return 0.0L;
         }
-        // q_a(sigma) - q_a(0) = d1 x + d2 x^2 / 2 + d3 x^3 / 6 with x = X(sigma) (Taylor, exact).
-        const double c1 = p1[a], c2 = 0.5 * p2[a], c3 = p3[a] / 6.0;
-        double P[10];
-        for (int j = 1; j <= 9; ++j) P[j] = c1 * (j <= 3 ? X[j] : 0.0) + c2 * (j <= 6 ? x2[j] : 0.0) + c3 * x3[j];
-        double D[3][9];  // velocity (degree 8), acceleration (7), jerk (6) in sigma, per unit time
-        for (int j = 0; j <= 8; ++j) D[0][j] = double(j + 1) * P[j + 1] * iH;
-        for (int j = 0; j <= 7; ++j) D[1][j] = double(j + 1) * D[0][j + 1] * iH;
-        for (int j = 0; j <= 6; ++j) D[2][j] = double(j + 1) * D[1][j + 1] * iH;
-        for (int q = 0; q < 3; ++q) {
-          const double il_q = ilim[a * 3 + std::size_t(q)];
-          if (!(il_q > 0.0) || !((open >> q) & 1u)) continue;
-          const int deg = 8 - q;
-          const double* c = D[q];
-          // Tighter bounds in turn: sigma^j in [0, 1], so c0 + (sum of the negative c_j) <= p <=
-          // c0 + (sum of the positive c_j); then the Bernstein coefficients (convex hull).
-          double pos = 0.0, neg = 0.0;
-          for (int j = 1; j <= deg; ++j) (c[j] > 0.0 ? pos : neg) += c[j];
-          const double quick = std::min(screen[q], std::max(c[0] + pos, -(c[0] + neg)) * il_q);
-          if (quick < near_q[q] && quick <= 1.0) continue;
-          const double bound = std::min(quick, detail::bernstein_max_abs(c, deg) * il_q);
-          if (bound < near_q[q] && bound <= 1.0) continue;
-          const double e1 = c[0] + pos + neg;
-          double r = std::max(std::abs(c[0]), std::abs(e1)) * il_q;  // the ends: values it takes
-          if (r < near_q[q] || bound > 1.0) {
-            const auto [lo, hi] = detail::poly_range(c, deg, 0.0, 1.0);
-            r = std::max(std::abs(hi), std::abs(lo)) * il_q;
+        if (at >= T0) {
+          o3[0] = L;
+          o3[1] = o3[2] = 0.0;
+          return bl.area[n - 1] + (long double)L * (at - T0);
+        }
+        advance(at, i);
+        const double y = at - bl.t[i];
+        o3[0] = bl.u[i] + y * (bl.v[i] + 0.5 * bl.w[i] * y);
+        o3[1] = bl.v[i] + bl.w[i] * y;
+        o3[2] = bl.w[i];
+        const long double ly = y;
+        return bl.area[i] + ly * (bl.u[i] + ly * (bl.v[i] * 0.5L + ly * bl.w[i] * (1.0L / 6.0L)));
+      };
+      const double itau = 1.0 / tau;
+      const long double itau_l = 1.0L / (long double)tau;
+      std::uint64_t* bits = nullptr;
+      double rv = 0.0, ra = 0.0, rj = 0.0;  // exact largest ratios of the current interval
+      // One piece of the move: sigma in [0, 1] over time H, u(sigma) = ug + X[0..3] (X[0] >= 0 the
+      // offset from grid point ig). Updates rv, ra, rj and the binding bits.
+      auto verify_piece = [&](const double* X, double H) {
+        const double iH = 1.0 / H;
+        // Ranges over the piece, for a first screen by interval arithmetic (certified, cheap):
+        // x = u - u_g in [X0, X(1)] (u nondecreasing), |du/dt| <= U1 (a quadratic in sigma: its
+        // ends and vertex), |d2u/dt2| <= U2 (linear: its ends), d3u/dt3 = U3 (constant).
+        const double xm = std::max(std::abs(X[0]), std::abs(X[0] + X[1] + X[2] + X[3]));
+        double U1 = std::max(std::abs(X[1]), std::abs(X[1] + 2.0 * X[2] + 3.0 * X[3]));
+        if (X[3] != 0.0) {
+          const double sv = -X[2] / (3.0 * X[3]);
+          if (sv > 0.0 && sv < 1.0) U1 = std::max(U1, std::abs(X[1] + sv * (2.0 * X[2] + 3.0 * sv * X[3])));
+        }
+        U1 *= iH;
+        const double U2 = std::max(std::abs(2.0 * X[2]), std::abs(2.0 * X[2] + 6.0 * X[3])) * iH * iH;
+        const double U3 = std::abs(6.0 * X[3]) * iH * iH * iH;
+        bool powers = false;
+        double x2[7] = {}, x3[10] = {};
+        const double* p1 = &g.d1[ig * m];
+        const double* p2 = &g.d2[ig * m];
+        const double* p3 = &g.d3[ig * m];
+        for (std::size_t a = 0; a < m; ++a) {
+          // |q_u| <= Q1, |q_uu| <= Q2, |q_uuu| = Q3 over the piece (Taylor at the grid point, exact).
+          const double Q3 = std::abs(p3[a]), Q2 = std::abs(p2[a]) + Q3 * xm, Q1 = std::abs(p1[a]) + xm * (std::abs(p2[a]) + 0.5 * Q3 * xm);
+          const double screen[3] = {Q1 * U1 * ilim[a * 3], (Q2 * U1 * U1 + Q1 * U2) * ilim[a * 3 + 1],
+                                    (Q3 * U1 * U1 * U1 + 3.0 * Q2 * U1 * U2 + Q1 * U3) * ilim[a * 3 + 2]};
+          // Which quantities the screen leaves open (branch-free: these tests are hard to predict).
+          const unsigned open = unsigned(!(screen[0] < near_q[0] && screen[0] <= 1.0)) |
+                                unsigned(!(screen[1] < near_q[1] && screen[1] <= 1.0)) << 1 |
+                                unsigned(!(screen[2] < near_q[2] && screen[2] <= 1.0)) << 2;
+          if (open == 0) continue;
+          if (!powers) {
+            for (int i = 0; i <= 3; ++i)
+              for (int j = 0; j <= 3; ++j) x2[i + j] += X[i] * X[j];
+            for (int i = 0; i <= 6; ++i)
+              for (int j = 0; j <= 3; ++j) x3[i + j] += x2[i] * X[j];
+            powers = true;
           }
-          if (r >= near_q[q]) bits[(a * 3 + std::size_t(q)) / 64] |= std::uint64_t(1) << ((a * 3 + std::size_t(q)) % 64);
-          double& rq = q == 0 ? rv : q == 1 ? ra : rj;
-          rq = std::max(rq, r);
+          // q_a(sigma) - q_a(0) = d1 x + d2 x^2 / 2 + d3 x^3 / 6 with x = X(sigma) (Taylor, exact).
+          const double c1 = p1[a], c2 = 0.5 * p2[a], c3 = p3[a] / 6.0;
+          double P[10];
+          for (int j = 1; j <= 9; ++j) P[j] = c1 * (j <= 3 ? X[j] : 0.0) + c2 * (j <= 6 ? x2[j] : 0.0) + c3 * x3[j];
+          double D[3][9];  // velocity (degree 8), acceleration (7), jerk (6) in sigma, per unit time
+          for (int j = 0; j <= 8; ++j) D[0][j] = double(j + 1) * P[j + 1] * iH;
+          for (int j = 0; j <= 7; ++j) D[1][j] = double(j + 1) * D[0][j + 1] * iH;
+          for (int j = 0; j <= 6; ++j) D[2][j] = double(j + 1) * D[1][j + 1] * iH;
+          for (int q = 0; q < 3; ++q) {
+            const double il_q = ilim[a * 3 + std::size_t(q)];
+            if (!(il_q > 0.0) || !((open >> q) & 1u)) continue;
+            const int deg = 8 - q;
+            const double* c = D[q];
+            // Tighter bounds in turn: sigma^j in [0, 1], so c0 + (sum of the negative c_j) <= p <=
+            // c0 + (sum of the positive c_j); then the Bernstein coefficients (convex hull).
+            double pos = 0.0, neg = 0.0;
+            for (int j = 1; j <= deg; ++j) (c[j] > 0.0 ? pos : neg) += c[j];
+            const double quick = std::min(screen[q], std::max(c[0] + pos, -(c[0] + neg)) * il_q);
+            if (quick < near_q[q] && quick <= 1.0) continue;
+            const double bound = std::min(quick, detail::bernstein_max_abs(c, deg) * il_q);
+            if (bound < near_q[q] && bound <= 1.0) continue;
+            const double e1 = c[0] + pos + neg;
+            double r = std::max(std::abs(c[0]), std::abs(e1)) * il_q;  // the ends: values it takes
+            if (r < near_q[q] || bound > 1.0) {
+              const auto [lo, hi] = detail::poly_range(c, deg, 0.0, 1.0);
+              r = std::max(std::abs(hi), std::abs(lo)) * il_q;
+            }
+            if (r >= near_q[q]) bits[(a * 3 + std::size_t(q)) / 64] |= std::uint64_t(1) << ((a * 3 + std::size_t(q)) % 64);
+            double& rq = q == 0 ? rv : q == 1 ? ra : rj;
+            rq = std::max(rq, r);
+          }
+        }
+      };
+      for (std::size_t k = k_begin; k < k_end; ++k) {
+        const double s = ts[k], H = ts[k + 1] - s;
+        if (partial) {
+          advance(s, ih);
+          advance(s - tau, il);
+          const std::size_t i0 = (s - tau > 0.0) ? il : 0, i1 = std::min(ih + 1, n - 1);
+          if (changed_before[i1] == changed_before[i0] && !viol_prev[tags[k]]) continue;
+        }
+        if (!(H > 0.0)) continue;
+        double hi[3], lo[3];
+        const long double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
+        // u(s + y) = u + u1 y + u2 y^2 / 2 + u3 y^3 / 6 on the interval (u3: the base acceleration
+        // entering minus leaving the window, constant here).
+        const double uu = std::min(L, double((ahi - alo) * itau_l));
+        const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
+        const double ur = uu + g.u[0];
+        while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
+        bits = &bind[std::size_t(tags[k]) * words];
+        std::fill(bits, bits + words, 0);
+        rv = ra = rj = 0.0;
+        // The cubic in sigma over the whole interval, u relative to the grid point below.
+        double U[4] = {ur, u1 * H, 0.5 * u2 * H * H, u3 * H * H * H / 6.0};
+        double sg0 = 0.0;  // start of the current piece in sigma
+        for (;;) {
+          const double u_end = U[0] + U[1] + U[2] + U[3];
+          // The next path break passed inside the interval, if any: the piece ends there.
+          const std::size_t c = next_brk[ig];
+          const bool split = c + 1 < n && g.u[c] < u_end && g.u[c] > U[0];
+          double sg1 = 1.0;
+          if (split) {
+            // u(sigma) = g.u[c]: u is nondecreasing; safeguarded Newton on [sg0, 1].
+            double a0 = sg0, b0 = 1.0, x = sg0 + (1.0 - sg0) * (g.u[c] - U[0]) / (u_end - U[0]);
+            for (int it = 0; it < 100; ++it) {
+              const double f = U[0] + x * (U[1] + x * (U[2] + x * U[3])) - g.u[c];
+              const double df = U[1] + x * (2.0 * U[2] + 3.0 * x * U[3]);
+              if (f == 0.0) break;
+              if (f < 0.0) a0 = x;
+              else b0 = x;
+              double xn = df > 0.0 ? x - f / df : 0.5 * (a0 + b0);
+              if (!(xn > a0 && xn < b0)) xn = 0.5 * (a0 + b0);
+              if (xn == x || b0 - a0 <= 4e-16) break;
+              x = xn;
+            }
+            sg1 = std::clamp(x, sg0, 1.0);
+          }
+          // This piece, [sg0, sg1], re-expressed in its own sigma' in [0, 1]: u = U(sg0 + w sigma').
+          const double w = sg1 - sg0;
+          if (w > 0.0) {
+            const double e0 = U[0] + sg0 * (U[1] + sg0 * (U[2] + sg0 * U[3]));
+            const double d1 = U[1] + sg0 * (2.0 * U[2] + 3.0 * sg0 * U[3]);
+            const double d2 = U[2] + 3.0 * sg0 * U[3];
+            const double X[4] = {e0 - g.u[ig], d1 * w, d2 * w * w, U[3] * w * w * w};
+            verify_piece(X, H * w);
+          }
+          if (!split) break;
+          sg0 = sg1;
+          ig = c;
+        }
+        const double kneed = std::max({1.0, rv, std::sqrt(std::max(ra, rj))});
+        double& km = sh.kmax;
+        if (rv > km || ra > km * km || rj > km * km * km) km = std::max({km, rv, std::sqrt(ra), std::cbrt(rj)});
+        if (kneed > 1.0) {
+          if (!dense) viol_now[tags[k]] = 1;
+          // The base law inside the window [s - tau, s + H] made this interval: slow it down there.
+          sh.slow.push_back({(s - tau > 0.0) ? il : 0, std::min(ih + 1, n - 1), kneed * 1.001});
         }
       }
     };
-    for (std::size_t k = 0; k + 1 < ts.size(); ++k) {
-      const double s = ts[k], H = ts[k + 1] - s;
-      if (partial) {
-        advance(s, ih);
-        advance(s - tau, il);
-        const std::size_t i0 = (s - tau > 0.0) ? il : 0, i1 = std::min(ih + 1, n - 1);
-        if (changed_before[i1] == changed_before[i0] && !viol_prev[tags[k]]) continue;
-      }
-      if (!(H > 0.0)) continue;
-      double hi[3], lo[3];
-      const long double ahi = base_at(s, ih, hi), alo = base_at(s - tau, il, lo);
-      // u(s + y) = u + u1 y + u2 y^2 / 2 + u3 y^3 / 6 on the interval (u3: the base acceleration
-      // entering minus leaving the window, constant here).
-      const double uu = std::min(L, double((ahi - alo) * itau_l));
-      const double u1 = (hi[0] - lo[0]) * itau, u2 = (hi[1] - lo[1]) * itau, u3 = (hi[2] - lo[2]) * itau;
-      const double ur = uu + g.u[0];
-      while (ig + 2 < n && g.u[ig + 1] <= ur) ++ig;
-      bits = &bind[std::size_t(tags[k]) * words];
-      std::fill(bits, bits + words, 0);
-      rv = ra = rj = 0.0;
-      // The cubic in sigma over the whole interval, u relative to the grid point below.
-      double U[4] = {ur, u1 * H, 0.5 * u2 * H * H, u3 * H * H * H / 6.0};
-      double sg0 = 0.0;  // start of the current piece in sigma
-      for (;;) {
-        const double u_end = U[0] + U[1] + U[2] + U[3];
-        // The next path break passed inside the interval, if any: the piece ends there.
-        const std::size_t c = next_brk[ig];
-        const bool split = c + 1 < n && g.u[c] < u_end && g.u[c] > U[0];
-        double sg1 = 1.0;
-        if (split) {
-          // u(sigma) = g.u[c]: u is nondecreasing; safeguarded Newton on [sg0, 1].
-          double a0 = sg0, b0 = 1.0, x = sg0 + (1.0 - sg0) * (g.u[c] - U[0]) / (u_end - U[0]);
-          for (int it = 0; it < 100; ++it) {
-            const double f = U[0] + x * (U[1] + x * (U[2] + x * U[3])) - g.u[c];
-            const double df = U[1] + x * (2.0 * U[2] + 3.0 * x * U[3]);
-            if (f == 0.0) break;
-            if (f < 0.0) a0 = x;
-            else b0 = x;
-            double xn = df > 0.0 ? x - f / df : 0.5 * (a0 + b0);
-            if (!(xn > a0 && xn < b0)) xn = 0.5 * (a0 + b0);
-            if (xn == x || b0 - a0 <= 4e-16) break;
-            x = xn;
-          }
-          sg1 = std::clamp(x, sg0, 1.0);
+    // A full round on a long segment: two shares on two threads (the same results: the shares'
+    // repairs are concatenated in interval order and their largest ratios merged).
+    const std::size_t nk = ts.size() - 1;
+    Share first, second;
+    if (nk >= 8192 && std::thread::hardware_concurrency() > 1) {
+      std::exception_ptr err;
+      std::thread worker([&] {
+        try {
+          verify_share(nk / 2, nk, second);
+        } catch (...) {
+          err = std::current_exception();
         }
-        // This piece, [sg0, sg1], re-expressed in its own sigma' in [0, 1]: u = U(sg0 + w sigma').
-        const double w = sg1 - sg0;
-        if (w > 0.0) {
-          const double e0 = U[0] + sg0 * (U[1] + sg0 * (U[2] + sg0 * U[3]));
-          const double d1 = U[1] + sg0 * (2.0 * U[2] + 3.0 * sg0 * U[3]);
-          const double d2 = U[2] + 3.0 * sg0 * U[3];
-          const double X[4] = {e0 - g.u[ig], d1 * w, d2 * w * w, U[3] * w * w * w};
-          verify_piece(X, H * w);
-        }
-        if (!split) break;
-        sg0 = sg1;
-        ig = c;
-      }
-      const double kneed = std::max({1.0, rv, std::sqrt(std::max(ra, rj))});
-      if (rv > kmax || ra > kmax * kmax || rj > kmax * kmax * kmax) kmax = std::max({kmax, rv, std::sqrt(ra), std::cbrt(rj)});
-      if (kneed > 1.0) {
-        if (!dense) viol_now[tags[k]] = 1;
-        // The base law inside the window [s - tau, s + H] made this interval: slow it down there.
-        slow.push_back({(s - tau > 0.0) ? il : 0, std::min(ih + 1, n - 1), kneed * 1.001});
-      }
+      });
+      verify_share(0, nk / 2, first);
+      worker.join();
+      if (err) std::rethrow_exception(err);
+    } else {
+      verify_share(0, nk, first);
     }
+    kmax = std::max(first.kmax, second.kmax);
+    slow = std::move(first.slow);
+    slow.insert(slow.end(), second.slow.begin(), second.slow.end());
     // need[i] = the largest factor of the windows that cover grid point i. Both ends of the
     // windows increase with the sample, so a sliding maximum (monotone deque) does it in O(n).
     {
