@@ -283,8 +283,9 @@ class Topp {
   double big_ = kInf;
 };
 
-std::shared_ptr<detail::BaseLaw> base_law(const Grid& g, const std::vector<double>& x) {
-  auto b = std::make_shared<detail::BaseLaw>();
+// The TOPP-RA law from the squared speeds x at the grid points, written into `b` (whose vectors
+// are reused from round to round).
+void base_law(const Grid& g, const std::vector<double>& x, detail::BaseLaw* b) {
   const std::size_t n = g.points();
   b->t.resize(n);
   b->u.resize(n);
@@ -303,7 +304,6 @@ std::shared_ptr<detail::BaseLaw> base_law(const Grid& g, const std::vector<doubl
     b->w[i] = (b->v[i + 1] - b->v[i]) / dt;
   }
   b->finish();
-  return b;
 }
 
 // The smoothing window: the largest jump of an axis's acceleration in the base law divided by that
@@ -387,6 +387,7 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   // A repair round re-verifies only the samples whose window touches a grid interval whose speeds
   // changed, or that exceeded a limit in the round before: every other sample sees the same base
   // law in its window (shifted in time) and so gives the same values as before.
+  std::shared_ptr<detail::BaseLaw> current, spare;
   bool dense = false, tau_changed = false;
   std::vector<double> x_prev;
   std::vector<std::size_t> changed_before(n, 0);  // changed intervals among [0, i)
@@ -402,7 +403,11 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
   for (int iter = 0;; ++iter) {
     if (!dense) {
       std::vector<double> x = topp.solve(kappa);  // a copy: x_prev keeps the previous round's
-      part->base = base_law(g, x);
+      // The law of this round into the spare one (the last round's law stays until replaced).
+      if (!spare || spare.use_count() != 1) spare = std::make_shared<detail::BaseLaw>();
+      base_law(g, x, spare.get());
+      std::swap(spare, current);
+      part->base = current;
       // The window follows the largest acceleration jump of the base law, which repairs can
       // make larger; a wider window changes every interval, so that round verifies them all.
       const double tau_new = window(g, *part->base, lim, iter == 0 ? 1e-3 * part->base->t.back() : tau);
