@@ -17,6 +17,7 @@
 #include <exception>
 #include <limits>
 #include <string>
+#include <system_error>
 #include <thread>
 
 #include "c2path/error.hpp"
@@ -626,15 +627,22 @@ SegmentPlan plan_segment(const Path& path, double ua, double ub, const std::vect
     // repairs are concatenated in interval order and their largest ratios merged).
     const std::size_t nk = ts.size() - 1;
     Share first, second;
+    std::thread worker;
+    std::exception_ptr err;
     if (nk >= 8192 && std::thread::hardware_concurrency() > 1) {
-      std::exception_ptr err;
-      std::thread worker([&] {
-        try {
-          verify_share(nk / 2, nk, second);
-        } catch (...) {
-          err = std::current_exception();
-        }
-      });
+      try {
+        worker = std::thread([&] {
+          try {
+            verify_share(nk / 2, nk, second);
+          } catch (...) {
+            err = std::current_exception();
+          }
+        });
+      } catch (const std::system_error&) {
+        // No thread to be had (a limit of the process): one share does it all.
+      }
+    }
+    if (worker.joinable()) {
       verify_share(0, nk / 2, first);
       worker.join();
       if (err) std::rethrow_exception(err);
