@@ -44,10 +44,6 @@ class TimeLaw {
   [[nodiscard]] double time_of(double u) const;
   /// Part boundaries [s]: t_begin, then the end of every moving and hold part.
   [[nodiscard]] std::vector<double> part_times() const;
-  /// The same law with every moving part slowed down uniformly by `factor` >= 1 (its duration
-  /// times factor, du/dt divided by factor, d2u/dt2 by factor^2, d3u/dt3 by factor^3); holds keep
-  /// their length. Each moving part starts and ends at rest, so this is exact.
-  [[nodiscard]] std::shared_ptr<const TimeLaw> stretched(double factor) const;
   /// u(ta + sigma (tb - ta)) = sum_k c[k] sigma^k for sigma in [0, 1], on an interval [ta, tb]
   /// that lies between two consecutive breaks(): returns the degree (<= 5), or -1 when the law
   /// is not polynomial there. c has room for 6 coefficients.

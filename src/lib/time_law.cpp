@@ -226,46 +226,6 @@ std::vector<double> TimeLaw::part_times() const {
   return b;
 }
 
-namespace {
-// A part of another law, shifted to start at t0 and (when moving) slowed down by `factor`.
-struct StretchedPart final : detail::TimeLawPart {
-  std::shared_ptr<const detail::TimeLawPart> orig;
-  double factor = 1.0;
-  [[nodiscard]] double to_orig(double t) const { return std::min(orig->t1, orig->t0 + (t - t0) / factor); }
-  void eval_local(double t, double* out) const override {
-    orig->eval_local(to_orig(t), out);
-    out[1] /= factor;
-    out[2] /= factor * factor;
-    out[3] /= factor * factor * factor;
-  }
-  void inner_breaks(std::vector<double>& out) const override {
-    std::vector<double> ob;
-    orig->inner_breaks(ob);
-    for (double b : ob) out.push_back(t0 + (b - orig->t0) * factor);
-  }
-  [[nodiscard]] bool moving() const override { return orig->moving(); }
-  int poly_on(double ta, double tb, double* c) const override { return orig->poly_on(to_orig(ta), to_orig(tb), c); }
-};
-}  // namespace
-
-std::shared_ptr<const TimeLaw> TimeLaw::stretched(double factor) const {
-  if (!(factor >= 1.0) || !std::isfinite(factor)) throw Error("time law: a stretch factor must be 1 or more");
-  std::vector<std::shared_ptr<const detail::TimeLawPart>> parts;
-  double t = t_begin();
-  for (const auto& p : parts_) {
-    auto sp = std::make_shared<StretchedPart>();
-    sp->orig = p;
-    sp->factor = p->moving() ? factor : 1.0;
-    sp->t0 = t;
-    sp->t1 = t + (p->t1 - p->t0) * sp->factor;
-    sp->ua = p->ua;
-    sp->ub = p->ub;
-    t = sp->t1;
-    parts.push_back(std::move(sp));
-  }
-  return std::make_shared<TimeLaw>(std::move(parts));
-}
-
 int TimeLaw::poly_on(double ta, double tb, double* c) const {
   return parts_[part_of(0.5 * (ta + tb))]->poly_on(ta, tb, c);
 }
@@ -307,18 +267,20 @@ PathTrajectory::PathTrajectory(std::shared_ptr<const Path> path, std::shared_ptr
 void PathTrajectory::eval_all(double t, Eigen::Ref<Eigen::MatrixXd> out) const {
   double s[4];
   const bool left = law_->eval_side(t, s);
-  const Index m = path_->axes();
-  // At the end of a moving part the path is evaluated on the segment that ends there.
-  const double ud = left ? std::nextafter(s[0], -std::numeric_limits<double>::infinity()) : s[0];
-  Eigen::VectorXd d1(m), d2(m), d3(m), q(m);
-  path_->eval(s[0], 0, q);
-  path_->eval(ud, 1, d1);
-  path_->eval(ud, 2, d2);
-  path_->eval(ud, 3, d3);
-  out.col(0) = q;
-  out.col(1) = d1 * s[1];
-  out.col(2) = d2 * (s[1] * s[1]) + d1 * s[2];
-  out.col(3) = d3 * (s[1] * s[1] * s[1]) + d2 * (3.0 * s[1] * s[2]) + d1 * s[3];
+  // At the end of a moving part the path's derivatives are those of the segment that ends there
+  // (its position is the same on both sides).
+  path_->eval_all(left ? std::nextafter(s[0], -std::numeric_limits<double>::infinity()) : s[0], out);
+  if (left) {
+    Eigen::VectorXd q(path_->axes());
+    path_->eval(s[0], 0, q);
+    out.col(0) = q;
+  }
+  for (Index a = 0; a < out.rows(); ++a) {
+    const double d1 = out(a, 1), d2 = out(a, 2), d3 = out(a, 3);
+    out(a, 1) = d1 * s[1];
+    out(a, 2) = d2 * (s[1] * s[1]) + d1 * s[2];
+    out(a, 3) = d3 * (s[1] * s[1] * s[1]) + d2 * (3.0 * s[1] * s[2]) + d1 * s[3];
+  }
 }
 
 void PathTrajectory::eval(double t, int deriv, Eigen::Ref<Eigen::VectorXd> out) const {
